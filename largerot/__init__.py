@@ -1,0 +1,15 @@
+"""largerot: large-rotation analysis of slender beams, rods and cables in the plane.
+
+Build a :class:`Structure`, choose a step control and :func:`trace` its
+equilibrium path.
+"""
+from .errors import ModelError
+from .model import DOFS, Member, Structure
+from .results import CriticalPoint, EquilibriumPath, Point
+from .sections import Section
+from .solvers import by_displacement, by_load, trace
+
+__version__ = "0.1.0"
+
+__all__ = ["ModelError", "Structure", "Member", "Section", "DOFS", "EquilibriumPath", "Point",
+           "CriticalPoint", "by_load", "by_displacement", "trace", "__version__"]

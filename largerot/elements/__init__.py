@@ -1,0 +1,4 @@
+"""Element kernels: vectorised over all elements of a kind, elements first in every array."""
+from . import bar, beam
+
+__all__ = ["bar", "beam"]

@@ -1,0 +1,110 @@
+"""Corotational planar Euler–Bernoulli beam.
+
+The element's rigid-body motion is removed exactly: the current chord defines a
+frame in which the element is a linear beam with an axial stretch and two end
+rotations relative to the chord (Crisfield 1991, *Non-linear Finite Element Analysis
+of Solids and Structures*, vol. 1, §7.1; Battini & Pacoste 2002, Comput. Methods
+Appl. Mech. Engrg 191). The tangent is the consistent one, material and geometric
+parts, derived from the same variations as the internal force.
+
+DOFs per element: (ux1, uy1, rz1, ux2, uy2, rz2). Local forces q = (N, M1, M2):
+N = EA·(l − L0)/L0, M1 = EI/L0·(4θ1 + 2θ2), M2 = EI/L0·(2θ1 + 4θ2).
+
+Node rotations accumulate without bound (several full turns); the local rotation
+θ = rz − α is taken from its sine and cosine, so it is wrapped to (−π, π] and the
+element needs no bookkeeping of turns as long as each element bends by less than π.
+"""
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from ._chord import chord
+
+__all__ = ["BeamResponse", "response", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
+
+N_DOF = 6
+NODE_DOFS = (0, 1, 2)
+
+
+class BeamResponse(NamedTuple):
+    q: np.ndarray          #: local forces (N, M1, M2), shape (n_elements, 3)
+    f: np.ndarray          #: internal force, shape (n_elements, 6)
+    K: np.ndarray | None   #: tangent, shape (n_elements, 6, 6)
+    l: np.ndarray          #: current chord length, shape (n_elements,)
+
+
+def local_rotations(dX: np.ndarray, u: np.ndarray, c: np.ndarray, s: np.ndarray):
+    """End rotations relative to the current chord, each shape (n_elements,)."""
+    L = np.hypot(dX[:, 0], dX[:, 1])
+    c0, s0 = dX[:, 0] / L, dX[:, 1] / L
+    ca, sa = c * c0 + s * s0, s * c0 - c * s0          # rigid rotation α of the chord
+    out = []
+    for rz in (u[:, 2], u[:, 5]):
+        cr, sr = np.cos(rz), np.sin(rz)
+        out.append(np.arctan2(sr * ca - cr * sa, cr * ca + sr * sa))
+    return out
+
+
+def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
+             EI: np.ndarray, tangent: bool = True) -> BeamResponse:
+    """Internal forces and consistent tangent of corotational beams.
+
+    Parameters
+    ----------
+    dX : ndarray, shape (n_elements, 2)
+        Undeformed vector from end 1 to end 2.
+    L0 : ndarray, shape (n_elements,)
+        Undeformed length.
+    u : ndarray, shape (n_elements, 6)
+        End displacements and rotations.
+    EA, EI : ndarray, shape (n_elements,)
+        Axial and bending stiffness.
+    tangent : bool
+        Also compute the tangent.
+    """
+    l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
+    t1, t2 = local_rotations(dX, u, c, s)
+    ka, kb = EA / L0, EI / L0
+    N = ka * stretch
+    M1 = kb * (4.0 * t1 + 2.0 * t2)
+    M2 = kb * (2.0 * t1 + 4.0 * t2)
+    zero = np.zeros_like(c)
+    r = np.stack([-c, -s, zero, c, s, zero], axis=1)
+    z = np.stack([s, -c, zero, -s, c, zero], axis=1) / l[:, None]
+    # rows of B: dl = r·du; dθ1 = drz1 − z·du; dθ2 = drz2 − z·du (z already over l)
+    b1 = -z.copy()
+    b1[:, 2] += 1.0
+    b2 = -z.copy()
+    b2[:, 5] += 1.0
+    f = N[:, None] * r + M1[:, None] * b1 + M2[:, None] * b2
+    K = None
+    if tangent:
+        outer = lambda a, b: a[:, :, None] * b[:, None, :]  # noqa: E731
+        K = (ka[:, None, None] * outer(r, r)
+             + kb[:, None, None] * (4.0 * outer(b1, b1) + 2.0 * (outer(b1, b2) + outer(b2, b1))
+                                    + 4.0 * outer(b2, b2))
+             + (N * l)[:, None, None] * outer(z, z)
+             + ((M1 + M2) / l)[:, None, None] * (outer(r, z) + outer(z, r)))
+    return BeamResponse(np.stack([N, M1, M2], axis=1), f, K, l)
+
+
+def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9) -> np.ndarray:
+    """Deflected centre line of each element from its cubic shape functions.
+
+    Returns
+    -------
+    ndarray, shape (n_elements, n_points, 2)
+        Points along each element, end 1 to end 2, in global coordinates.
+    """
+    L0 = np.hypot(dX[:, 0], dX[:, 1])
+    l, _, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
+    t1, t2 = local_rotations(dX, u, c, s)
+    xi = np.linspace(0.0, 1.0, n_points)[None, :]
+    w = l[:, None] * (t1[:, None] * xi * (1 - xi) ** 2 - t2[:, None] * xi**2 * (1 - xi))
+    along = l[:, None] * xi
+    x1 = X1 + u[:, 0:2]
+    px = x1[:, 0:1] + along * c[:, None] - w * s[:, None]
+    py = x1[:, 1:2] + along * s[:, None] + w * c[:, None]
+    return np.stack([px, py], axis=2)

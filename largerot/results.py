@@ -1,0 +1,217 @@
+"""The equilibrium path: what a trace returns."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .elements import beam as beam_kernel
+from .model import DOFS, Structure, dof_index
+
+__all__ = ["EquilibriumPath", "Point", "CriticalPoint", "PATH_STATUS"]
+
+#: What ``path.status`` can be, with its message (one table for all steppers).
+PATH_STATUS = {
+    "running": "The trace has not finished.",
+    "target": "Reached the target load factor.",
+    "stopped": "The stop condition was met.",
+    "max_steps": "Took the maximum number of steps.",
+    "failed": "Newton's method did not converge even at the smallest step; "
+              "the path ends at the last converged point.",
+}
+
+
+@dataclass
+class CriticalPoint:
+    """A point where the tangent becomes singular along the path.
+
+    ``kind`` is ``"limit"`` or ``"bifurcation"``; ``index`` is the path point before it.
+    """
+
+    kind: str
+    load_factor: float
+    index: int
+    u: np.ndarray = field(repr=False)
+    mode: np.ndarray = field(repr=False)
+
+
+class _Displacements:
+    """Shared look-ups of node displacements in a full DOF vector or stack of them."""
+
+    structure: Structure
+
+    def _column(self, node: int, dof: str) -> int:
+        if not 0 <= int(node) < self.structure.n_nodes:
+            raise IndexError(f"Unknown node {node!r}.")
+        return 3 * int(node) + dof_index(dof)
+
+
+class Point(_Displacements):
+    """One converged point of a path, as handed to ``stop`` and ``callback``.
+
+    Attributes
+    ----------
+    index : int
+    load_factor : float
+    u : ndarray, shape (3·n_nodes,)
+        Full displacement vector (restrained DOFs zero).
+    iterations : int
+    """
+
+    def __init__(self, structure: Structure, index: int, load_factor: float,
+                 u: np.ndarray, iterations: int = 0) -> None:
+        self.structure, self.index, self.load_factor = structure, index, float(load_factor)
+        self.u, self.iterations = u, iterations
+
+    def displacement(self, node: int, dof: str) -> float:
+        return float(self.u[self._column(node, dof)])
+
+    def coordinates(self) -> np.ndarray:
+        """Deformed node positions, shape (n_nodes, 2)."""
+        return self.structure.xy + self.u.reshape(-1, 3)[:, :2]
+
+    def __repr__(self) -> str:
+        return f"Point(index={self.index}, load_factor={self.load_factor:.6g})"
+
+
+class EquilibriumPath(_Displacements):
+    """A traced equilibrium path: point 0 is the unloaded state.
+
+    Attributes
+    ----------
+    load_factor : ndarray, shape (n_points,)
+    iterations : ndarray of int, shape (n_points,)
+        Newton iterations of each point (0 for point 0).
+    residuals : list of ndarray
+        Relative residual after each iteration, per point.
+    n_negative : ndarray of int, shape (n_points,)
+        Negative eigenvalues of the tangent at each point.
+    status : str
+        A key of :data:`PATH_STATUS`.
+    message : str
+    critical_points : list of CriticalPoint
+    counters : dict
+        Residual evaluations, factorisations, step cuts.
+    """
+
+    def __init__(self, structure: Structure, free: np.ndarray, load_factor, u_free,
+                 iterations, residuals, n_negative, status: str, message: str,
+                 critical_points=None, counters=None, extra=None) -> None:
+        self.structure = structure
+        self.free = np.asarray(free)
+        self.load_factor = np.asarray(load_factor, dtype=float)
+        self._u_free = np.asarray(u_free, dtype=float).reshape(len(self.load_factor), -1)
+        self.iterations = np.asarray(iterations, dtype=int)
+        self.residuals = list(residuals)
+        self.n_negative = np.asarray(n_negative, dtype=int)
+        self.status, self.message = status, message
+        self.critical_points = list(critical_points or [])
+        self.counters = dict(counters or {})
+        self.extra = dict(extra or {})
+        self._u_full = None
+
+    # -- basic access -----------------------------------------------------------
+    def __len__(self) -> int:
+        return len(self.load_factor)
+
+    @property
+    def success(self) -> bool:
+        return self.status not in ("failed", "running")
+
+    @property
+    def stable(self) -> np.ndarray:
+        """True where the tangent is positive definite, shape (n_points,)."""
+        return self.n_negative == 0
+
+    @property
+    def u(self) -> np.ndarray:
+        """Full displacement vectors, shape (n_points, 3·n_nodes)."""
+        if self._u_full is None:
+            full = np.zeros((len(self), 3 * self.structure.n_nodes))
+            full[:, self.free] = self._u_free
+            self._u_full = full
+        return self._u_full
+
+    def displacement(self, node: int, dof: str) -> np.ndarray:
+        """One DOF of one node at every point, shape (n_points,)."""
+        return self._u_free_column(self._column(node, dof))
+
+    def _u_free_column(self, g: int) -> np.ndarray:
+        j = np.searchsorted(self.free, g)
+        if j < len(self.free) and self.free[j] == g:
+            return self._u_free[:, j].copy()
+        return np.zeros(len(self))
+
+    def point(self, i: int) -> Point:
+        i = range(len(self))[i]
+        return Point(self.structure, i, self.load_factor[i], self.u[i], int(self.iterations[i]))
+
+    def __getitem__(self, i: int) -> Point:
+        return self.point(i)
+
+    def coordinates(self, i: int) -> np.ndarray:
+        """Deformed node positions at point ``i``, shape (n_nodes, 2)."""
+        return self.point(i).coordinates()
+
+    # -- shapes for drawing -------------------------------------------------------
+    def shape(self, i: int, n_sub: int = 9) -> dict:
+        """Deformed member lines at point ``i`` for drawing.
+
+        Returns
+        -------
+        dict
+            ``"beam"``: shape (n_beam_elements, n_sub, 2), the cubic deflected curves;
+            ``"bar"``: shape (n_bar_elements, 2, 2), straight chords.
+        """
+        u = self.u[range(len(self))[i]]
+        return member_lines(self.structure, u, n_sub)
+
+    # -- tables -------------------------------------------------------------------
+    def to_dataframe(self, nodes=None):
+        """One row per point: load factor, Newton effort, stability, node displacements.
+
+        Parameters
+        ----------
+        nodes : sequence of int, optional
+            Nodes whose DOFs get columns (``"ux[4]"``...). Default: loaded nodes, or
+            every node of a structure with at most 20 nodes.
+        """
+        import pandas as pd
+
+        s = self.structure
+        if nodes is None:
+            F = s.load_vector() + s.load_vector(constant=True)
+            loaded = sorted({g // 3 for g in np.flatnonzero(F)})
+            nodes = range(s.n_nodes) if s.n_nodes <= 20 else loaded
+        cols = {
+            "load_factor": self.load_factor,
+            "iterations": self.iterations,
+            "residual": [r[-1] if len(r) else 0.0 for r in self.residuals],
+            "n_negative": self.n_negative,
+            "stable": self.stable,
+        }
+        for n in nodes:
+            for d in DOFS:
+                cols[f"{d}[{n}]"] = self.displacement(n, d)
+        return pd.DataFrame(cols, index=pd.RangeIndex(len(self), name="point"))
+
+    def __repr__(self) -> str:
+        return (f"EquilibriumPath({len(self)} points, load factor "
+                f"{self.load_factor.min():.4g}…{self.load_factor.max():.4g}, status={self.status!r})")
+
+
+def member_lines(structure: Structure, u: np.ndarray, n_sub: int = 9) -> dict:
+    """Deformed beam curves and bar chords for a full displacement vector ``u``."""
+    xy = structure.xy
+    out = {}
+    nodes, _ = structure.element_table("beam")
+    if len(nodes):
+        ue = u[np.concatenate([3 * nodes[:, [0]] + [0, 1, 2], 3 * nodes[:, [1]] + [0, 1, 2]], axis=1)]
+        X1 = xy[nodes[:, 0]]
+        out["beam"] = beam_kernel.curve(X1, xy[nodes[:, 1]] - X1, ue, n_sub)
+    else:
+        out["beam"] = np.zeros((0, n_sub, 2))
+    nodes, _ = structure.element_table("bar")
+    pos = xy + u.reshape(-1, 3)[:, :2]
+    out["bar"] = pos[nodes] if len(nodes) else np.zeros((0, 2, 2))
+    return out

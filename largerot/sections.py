@@ -1,0 +1,97 @@
+"""Cross-section properties of members."""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from .errors import ModelError
+
+__all__ = ["Section"]
+
+
+def _check(name: str, value: float, *, positive: bool) -> float:
+    try:
+        value = float(value)
+    except (TypeError, ValueError):
+        raise ModelError(f"Section `{name}` must be a number, got {value!r}.") from None
+    if not math.isfinite(value) or value < 0.0 or (positive and value == 0.0):
+        kind = "positive" if positive else "non-negative"
+        raise ModelError(f"Section `{name}` must be a finite {kind} number, got {value!r}.")
+    return value
+
+
+@dataclass(frozen=True)
+class Section:
+    """Elastic properties of a member's cross-section, in any consistent units.
+
+    Parameters
+    ----------
+    E : float
+        Young's modulus.
+    A : float
+        Area.
+    I : float, optional
+        Second moment of area for bending in the plane; needed by beams only.
+    density : float, optional
+        Mass per unit volume; with gravity it gives self-weight.
+    fy : float, optional
+        Yield stress (used by yield checks); ``None`` when not given.
+    depth : float, optional
+        Overall depth in the plane of bending, for extreme-fibre stresses.
+
+    Examples
+    --------
+    >>> sec = Section.tube(E=70e9, diameter=0.2, wall=0.005)
+    >>> round(sec.A * 1e4, 3)
+    30.631
+    """
+
+    E: float
+    A: float
+    I: float = 0.0
+    density: float = 0.0
+    fy: float | None = None
+    depth: float | None = None
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "E", _check("E", self.E, positive=True))
+        object.__setattr__(self, "A", _check("A", self.A, positive=True))
+        object.__setattr__(self, "I", _check("I", self.I, positive=False))
+        object.__setattr__(self, "density", _check("density", self.density, positive=False))
+        if self.fy is not None:
+            object.__setattr__(self, "fy", _check("fy", self.fy, positive=True))
+        if self.depth is not None:
+            object.__setattr__(self, "depth", _check("depth", self.depth, positive=True))
+
+    @classmethod
+    def tube(cls, E: float, diameter: float, wall: float, **extra) -> "Section":
+        """Round tube of outer ``diameter`` and ``wall`` thickness."""
+        d = _check("diameter", diameter, positive=True)
+        t = _check("wall", wall, positive=True)
+        if 2.0 * t > d:
+            raise ModelError(f"Tube wall {t!r} is thicker than half the diameter {d!r}.")
+        di = d - 2.0 * t
+        A = math.pi / 4.0 * (d**2 - di**2)
+        I = math.pi / 64.0 * (d**4 - di**4)
+        return cls(E=E, A=A, I=I, depth=d, **extra)
+
+    @classmethod
+    def rectangle(cls, E: float, width: float, depth: float, **extra) -> "Section":
+        """Solid rectangle; ``depth`` lies in the plane of bending."""
+        b = _check("width", width, positive=True)
+        h = _check("depth", depth, positive=True)
+        return cls(E=E, A=b * h, I=b * h**3 / 12.0, depth=h, **extra)
+
+    @classmethod
+    def rod(cls, E: float, diameter: float, **extra) -> "Section":
+        """Solid round rod (also a fair model of a wire rope's metallic area)."""
+        d = _check("diameter", diameter, positive=True)
+        return cls(E=E, A=math.pi * d**2 / 4.0, I=math.pi * d**4 / 64.0, depth=d, **extra)
+
+    @property
+    def EA(self) -> float:
+        return self.E * self.A
+
+    @property
+    def EI(self) -> float:
+        return self.E * self.I

@@ -1,0 +1,5 @@
+"""Solvers: Newton's method inside path-following steppers."""
+from .controls import StepControl, by_displacement, by_load, run, trace
+from .stepper import PathStepper
+
+__all__ = ["StepControl", "by_displacement", "by_load", "run", "trace", "PathStepper"]

@@ -1,0 +1,41 @@
+"""Displacement control: one DOF advances by a fixed increment, λ is solved for.
+
+The bordered Newton system makes λ an unknown, so the path passes limit points
+in load (where load control stops), though not turning points of the controlled
+DOF itself (snap-back), which need arc-length control.
+"""
+from __future__ import annotations
+
+from ..errors import ModelError
+from ..model import dof_index
+from .newton import DisplacementConstraint
+from .stepper import PathStepper
+
+__all__ = ["DisplacementStepper"]
+
+
+class DisplacementStepper(PathStepper):
+    """Advance the DOF ``dof`` of ``node`` by ``h`` per step."""
+
+    def __init__(self, structure, node: int, dof: str, step: float, **options) -> None:
+        if not step:
+            raise ValueError(f"The displacement step must be non-zero, got {step!r}.")
+        structure._check_node(node, "by_displacement")
+        self.node, self.dof = int(node), dof
+        g = 3 * self.node + dof_index(dof)
+        super().__init__(structure, step, **options)
+        j = int(self.assembly.free_index[g])
+        if j < 0:
+            raise ModelError(f"by_displacement: node {node} {dof} is not a free DOF "
+                             "(it is restrained or carries no stiffness).")
+        if not self.problem.F.any():
+            raise ModelError("by_displacement needs a reference load to scale; the structure has none.")
+        self.j = j
+
+    def _predict(self, h: float):
+        v = self.tangent_direction()
+        if v[self.j] == 0.0:
+            return None
+        dlam = h / v[self.j]
+        return (self.u + dlam * v, self.lam + dlam,
+                DisplacementConstraint(self.j, self.u[self.j] + h))

@@ -1,0 +1,58 @@
+"""The discrete equilibrium problem r(u, λ) = λ·F_ref + F_const − f_int(u) on free DOFs."""
+from __future__ import annotations
+
+import numpy as np
+
+from ..assembly import Assembly
+
+__all__ = ["Problem"]
+
+
+class Problem:
+    """Residual and tangent of a structure as functions of free displacements and λ.
+
+    Parameters
+    ----------
+    assembly : Assembly
+    """
+
+    def __init__(self, assembly: Assembly) -> None:
+        self.assembly = assembly
+        self.F = assembly.F_ref[assembly.free]
+        self.F_const = assembly.F_const[assembly.free]
+        # False once a load stiffness (follower loads) makes the tangent non-symmetric
+        self.symmetric = True
+        self.const_factor = 1.0        # < 1 only while the constant loads are ramped in
+        self.n_evaluations = 0
+        L = assembly.length_scale
+        # weights so that rotations count like displacements of the structure's size
+        self.weights = np.where(assembly.free % 3 == 2, L, 1.0)
+        self.length_scale = L
+
+    @property
+    def n(self) -> int:
+        return self.assembly.n_free
+
+    def full(self, u: np.ndarray) -> np.ndarray:
+        return self.assembly.expand(u)
+
+    def external(self, lam: float) -> np.ndarray:
+        return lam * self.F + self.const_factor * self.F_const
+
+    def residual(self, u: np.ndarray, lam: float, tangent: bool = True):
+        """Return ``(r, K, scale)``: residual (n_free,), tangent, and force yardstick.
+
+        ``scale`` is the larger of the internal force level and the applied load, so
+        the relative residual test has a floor set by round-off in the element forces,
+        not by a tiny applied load at the start of a path.
+        """
+        self.n_evaluations += 1
+        f, K, scale, _ = self.assembly.evaluate(self.full(u), tangent)
+        ext = self.external(lam)
+        r = ext - f[self.assembly.free]
+        scale = max(scale, float(np.linalg.norm(ext)), np.finfo(float).tiny)
+        return r, K, scale
+
+    def norm(self, du: np.ndarray) -> float:
+        """Weighted displacement norm (rotations scaled by the structure's size)."""
+        return float(np.linalg.norm(du * self.weights))
