@@ -53,6 +53,16 @@ class Problem:
         scale = max(scale, float(np.linalg.norm(ext)), np.finfo(float).tiny)
         return r, K, scale
 
+    def point_data(self, u: np.ndarray) -> dict:
+        """Per-point results worth keeping along the path (e.g. which cables are slack).
+
+        Returns a dict of name -> ndarray; the path stacks each over its points in
+        ``path.extra[name]``. Element kinds add their entries through
+        ``Assembly.point_data``.
+        """
+        fn = getattr(self.assembly, "point_data", None)
+        return fn(self.full(u)) if fn is not None else {}
+
     def norm(self, du: np.ndarray) -> float:
         """Weighted displacement norm (rotations scaled by the structure's size)."""
         return float(np.linalg.norm(du * self.weights))

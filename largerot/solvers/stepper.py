@@ -86,6 +86,7 @@ class PathStepper:
         self._iterations: list[int] = []
         self._residuals: list[np.ndarray] = []
         self._n_negative: list[int] = []
+        self._extra: dict[str, list] = {}
         self._start()
 
     # -- start ------------------------------------------------------------------
@@ -207,6 +208,8 @@ class PathStepper:
         self._iterations.append(int(res.iterations))
         self._residuals.append(np.asarray(res.residuals))
         self._n_negative.append(res.factorization.n_negative)
+        for k, v in self.problem.point_data(res.u).items():
+            self._extra.setdefault(k, []).append(v)
 
     def _predict(self, h: float):
         """Return ``(u_pred, lam_pred, constraint)`` for a step ``h``, or None."""
@@ -234,7 +237,8 @@ class PathStepper:
         return EquilibriumPath(self.structure, self.assembly.free, self._points_lam,
                                np.array(self._points_u), self._iterations, self._residuals,
                                self._n_negative, self.path_status, self.message,
-                               counters=counters)
+                               counters=counters,
+                               extra={k: np.array(v) for k, v in self._extra.items()})
 
 
 def _null_dofs(K, exc: SingularTangent) -> np.ndarray:
