@@ -1,0 +1,126 @@
+"""The Newton solver and the path driver: convergence, statuses, events, results."""
+import numpy as np
+import pytest
+
+import largerot as lr
+from largerot.solvers.stepper import PathStepper
+
+
+def small_cantilever(segments=8):
+    s = lr.Structure()
+    a, b = s.node(0.0, 0.0), s.node(2.0, 0.0)
+    s.beam(a, b, lr.Section(E=1e3, A=1.0, I=1e-3), segments=segments)
+    s.fix(a)
+    s.load(b, fy=-1.0)
+    return s, a, b
+
+
+def test_newton_converges_quadratically():
+    # With the consistent tangent, r_{k+1} ≤ C·r_k² once r_k is small (common practice,
+    # no source). A tangent missing its geometric part would converge linearly and
+    # break the bound at small r_k. Large steps make several iterations per point.
+    s, a, b = small_cantilever()
+    path = lr.trace(s, lr.by_load(1.0), target_load_factor=3.0, tol=1e-14)
+    checked = 0
+    for r in path.residuals[1:]:
+        for rk, rk1 in zip(r[:-1], r[1:]):
+            if 1e-11 < rk1 and rk < 1e-2:
+                assert rk1 <= 1e4 * rk**2
+                checked += 1
+    assert checked >= 3
+
+
+def test_trace_lands_exactly_on_target_and_keeps_history():
+    s, a, b = small_cantilever()
+    path = lr.trace(s, lr.by_load(0.3), target_load_factor=1.0)
+    assert path.status == "target" and path.success
+    assert path.load_factor[0] == 0.0 and path.load_factor[-1] == 1.0
+    assert np.allclose(np.diff(path.load_factor)[:-1], 0.3)
+    assert path.iterations[0] == 0 and np.all(path.iterations[1:] >= 1)
+    assert len(path.residuals) == len(path) and len(path) == 5
+    assert path.u.shape == (5, 3 * s.n_nodes)
+    assert np.all(path.u[:, :3] == 0.0)                   # the clamp
+    df = path.to_dataframe()
+    assert list(df["load_factor"]) == list(path.load_factor)
+    assert f"uy[{b}]" in df.columns
+
+
+def test_displacement_control_reaches_target_load_factor_exactly():
+    s, a, b = small_cantilever()
+    path = lr.trace(s, lr.by_displacement(b, "uy", -0.2), target_load_factor=2.0)
+    assert path.status == "target"
+    assert path.load_factor[-1] == pytest.approx(2.0, abs=1e-12)
+
+
+def test_stop_condition_ends_trace_on_the_point_that_met_it():
+    s, a, b = small_cantilever()
+    seen = []
+    path = lr.trace(s, lr.by_load(0.1), stop=lambda p: p.displacement(b, "uy") < -0.5,
+                    callback=seen.append)
+    assert path.status == "stopped"
+    uy = path.displacement(b, "uy")
+    assert uy[-1] < -0.5 and np.all(uy[:-1] >= -0.5)
+    assert [p.index for p in seen] == list(range(1, len(path)))
+
+
+def test_failure_at_limit_point_keeps_traced_points_without_nan():
+    # Load control cannot pass the limit point of a shallow two-bar truss. With a
+    # tight iteration budget (no jump to the far, inverted branch is accepted) the
+    # step halves down to its floor at the limit and the trace ends "failed", keeping
+    # every point before it; nothing non-finite appears in the result.
+    from reference import two_bar_truss_load
+    v = np.linspace(0.0, 0.5, 20001)
+    P_limit = two_bar_truss_load(v, 2.0, 0.5, 1e4).max()     # exact statics
+    s = lr.Structure()
+    l, c, r = s.node(-2.0, 0.0), s.node(0.0, 0.5), s.node(2.0, 0.0)
+    sec = lr.Section(E=1e4, A=1.0)
+    s.bar(l, c, sec)
+    s.bar(c, r, sec)
+    s.fix(l, "ux", "uy")
+    s.fix(r, "ux", "uy")
+    s.load(c, fy=-1.0)
+    path = lr.trace(s, lr.by_load(P_limit / 10), target_load_factor=3 * P_limit, max_iterations=4)
+    assert path.status == "failed" and not path.success
+    assert "did not converge" in path.message
+    assert path.counters["step_cuts"] >= 10
+    assert np.all(np.isfinite(path.u)) and np.all(np.isfinite(path.load_factor))
+    assert 0.999 * P_limit < path.load_factor[-1] <= P_limit
+    # every kept point is on the exact curve
+    P = two_bar_truss_load(-path.displacement(c, "uy"), 2.0, 0.5, 1e4)
+    assert np.allclose(path.load_factor, P, rtol=1e-7, atol=1e-9 * P_limit)
+
+
+def test_stepper_object_status_transitions():
+    s, a, b = small_cantilever()
+    st = lr.by_load(0.5).stepper(s, target_load_factor=1.0)
+    assert isinstance(st, PathStepper) and st.status == "running"
+    msg = st.step()
+    assert "λ = 0.5" in msg and st.status == "running"
+    st.step()
+    assert st.status == "finished" and st.path_status == "target"
+    with pytest.raises(RuntimeError, match="finished"):
+        st.step()
+    state = st.state()
+    assert set(state) >= {"u", "lam", "h", "status"} and state["lam"] == 1.0
+    assert isinstance(state["u"], np.ndarray)
+
+
+def test_bar_only_nodes_drop_rotation_automatically():
+    # A pin-jointed triangle has no rotational stiffness at its nodes: no mechanism error.
+    s = lr.Structure()
+    p, q, t = s.node(0, 0), s.node(4, 0), s.node(2, 1)
+    sec = lr.Section(E=1e5, A=1.0)
+    for i, j in ((p, q), (q, t), (t, p)):
+        s.bar(i, j, sec)
+    s.fix(p, "ux", "uy")
+    s.fix(q, "uy")
+    s.load(t, fx=1.0, fy=-2.0)
+    path = lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+    assert path.status == "target"
+    assert np.all(path.displacement(t, "rz") == 0.0)
+
+
+def test_max_steps_status():
+    s, a, b = small_cantilever()
+    path = lr.trace(s, lr.by_load(0.01), max_steps=3)
+    assert path.status == "max_steps" and len(path) == 4
