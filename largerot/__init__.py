@@ -8,8 +8,9 @@ from .model import DOFS, Member, Structure
 from .results import CriticalPoint, EquilibriumPath, Point
 from .sections import Section
 from .solvers import by_displacement, by_load, trace
+from . import plotting
 
 __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "DOFS", "EquilibriumPath", "Point",
-           "CriticalPoint", "by_load", "by_displacement", "trace", "__version__"]
+           "CriticalPoint", "by_load", "by_displacement", "trace", "plotting", "__version__"]
