@@ -16,7 +16,7 @@ __all__ = ["Factorization", "factorize", "SingularTangent"]
 
 #: A pivot this small next to its matrix diagonal is taken as exactly singular
 #: (round-off level of an eliminated mechanism is ~1e-16 of the diagonal).
-SINGULAR_PIVOT = 1e-13
+SINGULAR_PIVOT = 1e-14
 
 
 class SingularTangent(ArithmeticError):
