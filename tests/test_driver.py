@@ -68,7 +68,7 @@ def test_failure_at_limit_point_keeps_traced_points_without_nan():
     # tight iteration budget (no jump to the far, inverted branch is accepted) the
     # step halves down to its floor at the limit and the trace ends "failed", keeping
     # every point before it; nothing non-finite appears in the result.
-    from reference import two_bar_truss_load
+    from largerot.closed_form import two_bar_truss_load
     v = np.linspace(0.0, 0.5, 20001)
     P_limit = two_bar_truss_load(v, 2.0, 0.5, 1e4).max()     # exact statics
     s = lr.Structure()

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 import largerot as lr
-from reference import elastica_tip_load, end_moment_tip, two_bar_truss_load
+from largerot.closed_form import elastica_tip_load, end_moment_tip, two_bar_truss_load
 
 
 def cantilever(segments=32, EI=2.0, L=3.0, slenderness=1e6):
