@@ -10,7 +10,15 @@ from .sections import Section
 from .solvers import by_displacement, by_load, trace
 from . import plotting
 
+
+def __getattr__(name):
+    # lr.widgets imports ipywidgets and anywidget: only when first asked for
+    if name == "widgets":
+        import importlib
+        return importlib.import_module(".widgets", __name__)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
 __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "DOFS", "EquilibriumPath", "Point",
-           "CriticalPoint", "by_load", "by_displacement", "trace", "plotting", "__version__"]
+           "CriticalPoint", "by_load", "by_displacement", "trace", "plotting", "widgets", "__version__"]

@@ -7,12 +7,15 @@ from matplotlib.collections import LineCollection
 from .results import EquilibriumPath, member_lines
 from .model import DOFS, Structure
 
-__all__ = ["plot_shape", "plot_path", "plot_overview"]
+__all__ = ["plot_shape", "plot_path", "plot_overview", "path_segments", "critical_xy",
+           "shape_path_figure"]
 
 DEFORMED = "#1f5fa8"
 GHOST = "#b8b8b8"
 SUPPORT = "#333333"
 LOAD = "#c0392b"
+UNSTABLE = "#e67e22"
+CRITICAL = "#8e44ad"
 
 
 def _axes(ax):
@@ -30,13 +33,40 @@ def _draw_lines(ax, lines: dict, **style):
 
 
 def _draw_supports(ax, structure: Structure, size: float):
-    fixed = structure.fixed_dofs()
+    """Support symbols: a hatched block (clamp), triangle (pin), triangle on wheels (roller)."""
+    fixed = set(structure.fixed_dofs().tolist())
     xy = structure.xy
+    h = 0.035 * size
+    kw = dict(color=SUPPORT, lw=1.3, zorder=5, solid_capstyle="butt")
     for n in sorted({int(g) // 3 for g in fixed}):
-        held = {DOFS[g % 3] for g in fixed if g // 3 == n}
+        hx, hy, hr = (3 * n + k in fixed for k in range(3))
         x, y = xy[n]
-        marker = "s" if "rz" in held and {"ux", "uy"} <= held else ("^" if {"ux", "uy"} <= held else "o")
-        ax.plot([x], [y], marker=marker, ms=9, mfc="white", mec=SUPPORT, mew=1.5, zorder=5)
+        if hx and hy:
+            if hr:
+                ax.fill([x - h, x + h, x + h, x - h], [y, y, y - 0.4 * h, y - 0.4 * h],
+                        color=SUPPORT, zorder=5)
+                base = y - 0.4 * h
+            else:
+                ax.fill([x, x - 0.8 * h, x + 0.8 * h], [y, y - 1.3 * h, y - 1.3 * h],
+                        facecolor="white", edgecolor=SUPPORT, lw=1.3, zorder=5)
+                base = y - 1.3 * h
+            ax.plot([x - 1.3 * h, x + 1.3 * h], [base, base], **kw)
+            for t in np.linspace(-1.1, 1.3, 6):
+                ax.plot([x + t * h, x + (t - 0.4) * h], [base, base - 0.5 * h], **kw)
+        elif hx or hy:
+            d = np.array([0.0, -1.0]) if hy else np.array([-1.0, 0.0])
+            p = np.array([-d[1], d[0]])
+            c = np.array([x, y])
+            tri = np.array([c, c + 1.1 * h * d + 0.7 * h * p, c + 1.1 * h * d - 0.7 * h * p])
+            ax.fill(tri[:, 0], tri[:, 1], facecolor="white", edgecolor=SUPPORT, lw=1.3, zorder=5)
+            for q in (-0.4, 0.4):
+                w = c + 1.4 * h * d + q * h * p
+                ax.plot([w[0]], [w[1]], "o", ms=3.5, mfc="white", mec=SUPPORT, zorder=5)
+            g = c + 1.75 * h * d
+            ax.plot([g[0] - 1.1 * h * p[0], g[0] + 1.1 * h * p[0]],
+                    [g[1] - 1.1 * h * p[1], g[1] + 1.1 * h * p[1]], **kw)
+        if hr and not (hx and hy):
+            ax.plot([x], [y], "s", ms=6, mfc=SUPPORT, mec=SUPPORT, zorder=6)
 
 
 def plot_shape(path_or_structure, i: int = -1, ax=None, ghost: bool = True,
@@ -78,31 +108,67 @@ def plot_shape(path_or_structure, i: int = -1, ax=None, ghost: bool = True,
     return ax
 
 
+def path_segments(x: np.ndarray, lam: np.ndarray, stable: np.ndarray):
+    """Split a curve into its stable and unstable stretches for drawing.
+
+    A segment between two points is stable when both ends are. Returns two pairs
+    ``(x, y)`` with NaN gaps, one for the stable and one for the unstable stretches.
+
+    >>> xs, xu = path_segments(np.arange(4.0), np.arange(4.0), np.array([1, 1, 0, 0], bool))
+    >>> bool(np.isnan(xs[0]).any()), float(np.nanmax(xu[0]))
+    (True, 3.0)
+    """
+    x, lam, stable = np.asarray(x, float), np.asarray(lam, float), np.asarray(stable, bool)
+    seg_stable = stable[1:] & stable[:-1]
+    out = []
+    for want in (True, False):
+        xs, ys = [], []
+        for k in np.flatnonzero(seg_stable == want):
+            xs += [x[k], x[k + 1], np.nan]
+            ys += [lam[k], lam[k + 1], np.nan]
+        out.append((np.array(xs), np.array(ys)))
+    return out[0], out[1]
+
+
+def critical_xy(path: EquilibriumPath, node: int, dof: str) -> list:
+    """``(x, λ, kind)`` of each critical point, x being the node's DOF there."""
+    g = 3 * int(node) + DOFS.index(dof)
+    x_all = path.displacement(node, dof)
+    out = []
+    for cp in path.critical_points:
+        u = np.asarray(cp.u)
+        x = float(u[g]) if u.shape == (3 * path.structure.n_nodes,) else float(x_all[cp.index])
+        out.append((x, float(cp.load_factor), str(cp.kind)))
+    return out
+
+
 def plot_path(path: EquilibriumPath, node: int, dof: str, ax=None, marker: int | None = None,
               label: str | None = None, **style):
     """Draw load factor against one node's DOF; stable and unstable parts differ.
 
-    Critical points, when the path has them, are marked and labelled.
+    Stable stretches are solid, unstable ones dashed in another colour; critical
+    points are marked and labelled with their kind and load factor; ``marker`` marks
+    one point. Returns the axes.
     """
     ax = _axes(ax)
     x = path.displacement(node, dof)
     lam = path.load_factor
-    stable = path.stable
     color = style.pop("color", DEFORMED)
-    ax.plot(x, lam, color=color, lw=1.8, label=label or f"{dof} of node {node}", **style)
-    if not stable.all():
-        un = np.where(stable, np.nan, lam)
-        # an unstable stretch includes the points on either side so it joins up
-        edge = ~stable | np.r_[~stable[1:], False] | np.r_[False, ~stable[:-1]]
-        ax.plot(np.where(edge, x, np.nan), np.where(edge, lam, np.nan), color="white", lw=1.0, ls=(0, (3, 3)))
-        del un
-    for cp in path.critical_points:
-        g = 3 * node + DOFS.index(dof)
-        xc = cp.u[g] if cp.u.shape[0] == 3 * path.structure.n_nodes else np.nan
-        ax.plot([xc], [cp.load_factor], marker="D" if cp.kind == "limit" else "X",
-                color="#e67e22", ms=8, zorder=6)
-        ax.annotate(f"{cp.kind} λ={cp.load_factor:.4g}", (xc, cp.load_factor),
-                    textcoords="offset points", xytext=(6, 6), fontsize=8)
+    lw = style.pop("lw", 1.8)
+    label = label or f"{dof} of node {node}"
+    (xs, ys), (xu, yu) = path_segments(x, lam, path.stable)
+    if len(x) == 1:
+        ax.plot(x, lam, "o", color=color, label=label)
+    if len(xs):
+        ax.plot(xs, ys, color=color, lw=lw, label=label, **style)
+    if len(xu):
+        ax.plot(xu, yu, color=UNSTABLE, lw=lw, ls=(0, (4, 3)),
+                label=f"{label}, unstable" if len(xs) else label, **style)
+    for xc, lc, kind in critical_xy(path, node, dof):
+        ax.plot([xc], [lc], marker="D" if kind == "limit" else "X", color=CRITICAL, ms=8,
+                zorder=6, ls="none")
+        ax.annotate(f"{kind}\nλ = {lc:.4g}", (xc, lc), textcoords="offset points", xytext=(7, 4),
+                    fontsize=8, color=CRITICAL)
     if marker is not None:
         ax.plot([x[marker]], [lam[marker]], "o", color=LOAD, ms=7, zorder=7)
     ax.set_xlabel(f"{dof} of node {node}")
@@ -124,5 +190,42 @@ def plot_overview(path: EquilibriumPath, node: int, dof: str, points=None, figsi
                    color=cmap(k / max(1, len(points) - 1)))
     plot_path(path, node, dof, ax=a2)
     a2.plot(path.displacement(node, dof)[points], path.load_factor[points], "o", color=LOAD)
+    fig.tight_layout()
+    return fig
+
+
+def default_curve(path: EquilibriumPath) -> tuple:
+    """``(node, dof)`` worth plotting: the loaded node's translation that moves most."""
+    s = path.structure
+    F = s.load_vector() + s.load_vector(constant=True)
+    loaded = sorted({int(g) // 3 for g in np.flatnonzero(F)}) or [s.n_nodes - 1]
+    best, big = (loaded[0], "ux"), -1.0
+    for n in loaded[:4]:
+        for d in ("ux", "uy"):
+            v = float(np.abs(path.displacement(n, d)).max()) if len(path) else 0.0
+            if v > big:
+                best, big = (n, d), v
+    return best
+
+
+def shape_path_figure(path: EquilibriumPath, i: int = -1, node: int | None = None,
+                      dof: str | None = None, figsize=(10, 4.5), dpi: int = 100):
+    """A new figure for reports: the shape at point ``i`` beside the path, marked there.
+
+    The figure is a stand-alone :class:`matplotlib.figure.Figure` (not pyplot's), so
+    saving it never touches a live figure: ``shape_path_figure(path).savefig("x.svg")``.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    if node is None or dof is None:
+        node, dof = default_curve(path)
+    i = range(len(path))[i]
+    fig = Figure(figsize=figsize, dpi=dpi)
+    FigureCanvasAgg(fig)
+    a1, a2 = fig.subplots(1, 2)
+    plot_shape(path, i, ax=a1)
+    a1.set_title(f"point {i}: λ = {path.load_factor[i]:.4g}", fontsize=10)
+    plot_path(path, node, dof, ax=a2, marker=i)
     fig.tight_layout()
     return fig

@@ -1,0 +1,290 @@
+"""What the widgets draw, as plain arrays: computed here, testable without a browser.
+
+Nothing here is mechanics. Shapes come from :meth:`EquilibriumPath.shape`'s member
+lines, curves from :meth:`EquilibriumPath.displacement`, and member forces only from
+what the path provides (``path.member_forces(i)`` or ``path.extra``), when it does.
+
+Layout of the drawn shape: the deformed members are cut into *strokes*, chains of
+elements that join end to end. All strokes of one point are ``n_vertices`` points;
+the frames of a path are stacked into one float32 array of shape
+``(n_frames, n_vertices, 2)`` that goes to the browser once.
+"""
+from __future__ import annotations
+
+import logging
+
+import numpy as np
+
+from ..model import DOFS, Structure
+from ..results import EquilibriumPath, member_lines
+
+__all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options",
+           "readout", "readout_table", "member_force_table", "FORCE_NAMES", "symbols",
+           "bounds"]
+
+log = logging.getLogger(__name__)
+
+#: Most float32 numbers of shapes sent to the browser per path (8 MB): stays well
+#: below the 10 MB default limit of a Jupyter websocket message.
+FRAME_BUDGET = 2_000_000
+#: Most points of a path drawn in a widget; longer paths are subsampled evenly.
+MAX_FRAMES = 2000
+#: Points along one beam element's curve (at least its two ends).
+MAX_SUB, MIN_SUB = 9, 2
+#: Force diagram quantities, by the names the path's member results use.
+FORCE_NAMES = {"N": "axial force N", "V": "shear force V", "M": "bending moment M"}
+
+
+class Layout:
+    """How member lines become strokes of one polyline each.
+
+    Attributes
+    ----------
+    n_sub : int
+        Points per beam element curve.
+    order : ndarray of int, shape (n_vertices, 2)
+        For each vertex: (element row among beams then bars, point along it).
+    starts : ndarray of int32, shape (n_strokes + 1,)
+        Where each stroke begins among the vertices (last entry ``n_vertices``).
+    kinds : ndarray of uint8, shape (n_strokes,)
+        0 for a beam stroke, 1 for a bar.
+    element_ends : ndarray of int32, shape (n_elements, 2)
+        Vertex of each element's two ends (beams first, then bars).
+    node_vertex : dict
+        A vertex at each node that an element touches.
+    """
+
+    def __init__(self, structure: Structure, n_sub: int) -> None:
+        self.n_sub = int(n_sub)
+        beams, _ = structure.element_table("beam")
+        bars, _ = structure.element_table("bar")
+        rows, starts, kinds, ends, node_vertex = [], [], [], [], {}
+        pts = [(beams, self.n_sub, 0), (bars, 2, 1)]
+        offset = 0
+        prev_end = None
+        for nodes, n_pts, kind in pts:
+            for e, (a, b) in enumerate(nodes):
+                joined = kind == 0 and prev_end == a and kinds and kinds[-1] == 0
+                if not joined:
+                    starts.append(len(rows))
+                    kinds.append(kind)
+                first = len(rows) - 1 if joined else len(rows)
+                for k in range(1 if joined else 0, n_pts):
+                    rows.append((offset + e, k))
+                ends.append((first, len(rows) - 1))
+                node_vertex.setdefault(int(a), first)
+                node_vertex.setdefault(int(b), len(rows) - 1)
+                prev_end = b if kind == 0 else None
+            offset += len(nodes)
+            prev_end = None
+        self.n_beams = len(beams)
+        self.order = np.array(rows, dtype=int).reshape(-1, 2)
+        self.starts = np.array(starts + [len(rows)], dtype=np.int32)
+        self.kinds = np.array(kinds, dtype=np.uint8)
+        self.element_ends = np.array(ends, dtype=np.int32).reshape(-1, 2)
+        self.node_vertex = node_vertex
+
+    @property
+    def n_vertices(self) -> int:
+        return len(self.order)
+
+    def vertices(self, lines: dict) -> np.ndarray:
+        """Stroke vertices from :func:`member_lines` output, shape (n_vertices, 2)."""
+        beam, bar = lines["beam"], lines["bar"]
+        out = np.empty((self.n_vertices, 2))
+        isbeam = self.order[:, 0] < self.n_beams
+        e, k = self.order[isbeam].T
+        out[isbeam] = beam[e, k]
+        e, k = self.order[~isbeam].T
+        out[~isbeam] = bar[e - self.n_beams, k]
+        return out
+
+
+def layout(structure: Structure, n_frames: int, n_sub: int | None = None) -> Layout:
+    """A layout whose frames fit :data:`FRAME_BUDGET` (fewer curve points if needed)."""
+    if n_sub is None:
+        n_el = max(1, len(structure.element_table("beam")[0]))
+        n_sub = FRAME_BUDGET // max(1, 2 * n_frames * n_el)
+        n_sub = int(min(MAX_SUB, max(MIN_SUB, n_sub)))
+    return Layout(structure, n_sub)
+
+
+def frame_points(n_points: int, max_frames: int = MAX_FRAMES) -> np.ndarray:
+    """Path points shown as frames: all of them, or evenly spread, keeping both ends.
+
+    >>> frame_points(5, 3).tolist()
+    [0, 2, 4]
+    """
+    if n_points <= max_frames:
+        return np.arange(n_points)
+    return np.unique(np.round(np.linspace(0, n_points - 1, max_frames)).astype(int))
+
+
+def frames(path: EquilibriumPath, points: np.ndarray, lay: Layout, scale: float = 1.0) -> np.ndarray:
+    """Deformed stroke vertices at the given points, float32, shape (n_frames, n_vertices, 2).
+
+    ``scale`` magnifies the displacements (1 is true scale).
+    """
+    s = path.structure
+    out = np.empty((len(points), lay.n_vertices, 2), dtype=np.float32)
+    u = path.u
+    for j, i in enumerate(points):
+        out[j] = lay.vertices(member_lines(s, scale * u[i], lay.n_sub))
+    return out
+
+
+def bounds(*arrays: np.ndarray) -> list:
+    """``[xmin, xmax, ymin, ymax]`` over point arrays of shape (..., 2)."""
+    pts = np.concatenate([np.asarray(a, dtype=float).reshape(-1, 2) for a in arrays])
+    pts = pts[np.isfinite(pts).all(axis=1)]
+    if not len(pts):
+        return [-1.0, 1.0, -1.0, 1.0]
+    lo, hi = pts.min(axis=0), pts.max(axis=0)
+    return [float(lo[0]), float(hi[0]), float(lo[1]), float(hi[1])]
+
+
+# -- the equilibrium path plot ---------------------------------------------------------
+def curve_options(structure: Structure, max_nodes: int = 40) -> list:
+    """Dropdown choices ``(label, (node, dof))``: loaded nodes, then member ends, then others."""
+    F = structure.load_vector() + structure.load_vector(constant=True)
+    loaded = sorted({int(g) // 3 for g in np.flatnonzero(F)})
+    ends = sorted({n for m in structure.members for n in m.ends})
+    rest = range(structure.n_nodes)
+    nodes = list(dict.fromkeys([*loaded, *ends, *rest]))[:max_nodes]
+    return [(f"{d} of node {n}", (n, d)) for n in nodes for d in DOFS]
+
+
+def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None = None) -> dict:
+    """The load–displacement curve for drawing.
+
+    Returns
+    -------
+    dict
+        ``x``, ``y`` (float32, shape (n_frames,)), ``stable`` (uint8), ``critical``:
+        list of dicts ``{x, y, kind, index}``, and axis labels.
+    """
+    if points is None:
+        points = np.arange(len(path))
+    x_all = path.displacement(node, dof)
+    crit = []
+    g = 3 * int(node) + DOFS.index(dof)
+    for cp in path.critical_points:
+        u = np.asarray(cp.u)
+        x = float(u[g]) if u.shape == (3 * path.structure.n_nodes,) else float(x_all[cp.index])
+        crit.append({"x": x, "y": float(cp.load_factor), "kind": str(cp.kind), "index": int(cp.index)})
+    return {"x": x_all[points].astype(np.float32), "y": path.load_factor[points].astype(np.float32),
+            "stable": path.stable[points].astype(np.uint8), "critical": crit,
+            "x_label": f"{dof} of node {node}", "y_label": "load factor λ"}
+
+
+# -- member forces, only as the path provides them -------------------------------------
+def _as_ends(a, n: int) -> np.ndarray | None:
+    a = np.asarray(a, dtype=float)
+    if a.shape == (n,):
+        return np.repeat(a[:, None], 2, axis=1)
+    if a.shape == (n, 2):
+        return a
+    return None
+
+
+def _forces_at(path: EquilibriumPath, i: int) -> dict:
+    """Whatever member-force arrays the path has at point ``i`` (may be empty)."""
+    fn = getattr(path, "member_forces", None)
+    found = {}
+    if callable(fn):
+        got = fn(i)
+        if isinstance(got, dict):
+            found = got
+        else:                                     # an object with N, V, M attributes
+            found = {k: getattr(got, k) for k in FORCE_NAMES if hasattr(got, k)}
+    else:
+        for k in FORCE_NAMES:
+            if k in path.extra:
+                found[k] = path.extra[k][i]
+    return found
+
+
+def member_force_table(path: EquilibriumPath, points: np.ndarray, name: str) -> np.ndarray | None:
+    """End values of one member force at the given points, shape (n_frames, n_elements, 2).
+
+    Elements are beams first, then bars, as in :class:`Layout`. Accepts from the path
+    a dict ``{name: array}`` (or ``{"beam": {...}, "bar": {...}}``) whose arrays are
+    shape (n_elements,) or (n_elements, 2). Returns None when the path has none.
+    """
+    s = path.structure
+    n_beam, n_bar = len(s.element_table("beam")[0]), len(s.element_table("bar")[0])
+    out = np.zeros((len(points), n_beam + n_bar, 2), dtype=np.float32)
+    any_found = False
+    for j, i in enumerate(points):
+        f = _forces_at(path, int(i))
+        if "beam" in f or "bar" in f:
+            parts = [(f.get("beam", {}), 0, n_beam), (f.get("bar", {}), n_beam, n_bar)]
+        else:
+            parts = [(f, 0, n_beam + n_bar)]
+        for d, lo, n in parts:
+            if name not in d or n == 0:
+                continue
+            v = _as_ends(d[name], n)
+            if v is None and lo == 0 and n == n_beam + n_bar:
+                v = _as_ends(d[name], n_beam)
+                n = n_beam
+            if v is None:
+                log.warning("Member force %r has shape %s, not per element; not drawn.",
+                            name, np.shape(d[name]))
+                continue
+            out[j, lo:lo + n] = v
+            any_found = True
+    return out if any_found else None
+
+
+# -- readout ---------------------------------------------------------------------------
+def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = None) -> dict:
+    """Columns shown under the widget, each shape (n_frames,): label -> values.
+
+    Load factor, the chosen node's three DOFs and, when the path has member forces,
+    max |M| and max N over all elements.
+    """
+    if points is None:
+        points = np.arange(len(path))
+    cols = {"λ": path.load_factor[points]}
+    for d in DOFS:
+        cols[f"{d}[{node}]"] = path.displacement(node, d)[points]
+    M = member_force_table(path, points, "M")
+    N = member_force_table(path, points, "N")
+    if M is not None:
+        cols["max |M|"] = np.abs(M).max(axis=(1, 2)) if M.shape[1] else np.zeros(len(points))
+    if N is not None:
+        cols["max N"] = N.max(axis=(1, 2)) if N.shape[1] else np.zeros(len(points))
+    return {k: np.asarray(v, dtype=float) for k, v in cols.items()}
+
+
+def readout(path: EquilibriumPath, i: int, node: int) -> dict:
+    """The readout at point ``i`` as ``label -> float`` (what the browser shows)."""
+    t = readout_table(path, node, np.array([range(len(path))[i]]))
+    return {k: float(v[0]) for k, v in t.items()}
+
+
+# -- supports and loads ----------------------------------------------------------------
+def symbols(structure: Structure, lay: Layout) -> dict:
+    """Supports and loads to draw, as plain data.
+
+    ``supports``: ``{x, y, v, held}`` with ``held`` a string of the fixed DOFs
+    (``"xyr"`` a clamp, ``"xy"`` a pin, ``"x"``/``"y"`` a roller, ``"r"`` a rotation
+    lock); ``loads``: ``{v, fx, fy, mz, constant}`` with ``v`` the vertex of the node.
+    """
+    fixed = structure.fixed_dofs()
+    xy = structure.xy
+    supports = []
+    for n in sorted({int(g) // 3 for g in fixed}):
+        held = "".join(c for k, c in enumerate("xyr") if 3 * n + k in set(fixed.tolist()))
+        supports.append({"x": float(xy[n, 0]), "y": float(xy[n, 1]),
+                         "v": int(lay.node_vertex.get(n, -1)), "held": held})
+    loads = []
+    for constant in (False, True):
+        F = structure.load_vector(constant=constant).reshape(-1, 3)
+        for n in np.flatnonzero(np.abs(F).sum(axis=1)):
+            if int(n) in lay.node_vertex:
+                fx, fy, mz = (float(v) for v in F[n])
+                loads.append({"v": int(lay.node_vertex[int(n)]), "fx": fx, "fy": fy, "mz": mz,
+                              "constant": constant})
+    return {"supports": supports, "loads": loads}

@@ -1,0 +1,247 @@
+"""The path explorer: scrub or play along a traced path and watch the member move.
+
+>>> import largerot as lr
+>>> from largerot.demo import lighting_pole
+>>> s, base, top = lighting_pole(segments=4)
+>>> path = lr.trace(s, lr.by_load(0.25), target_load_factor=1.0)
+>>> ex = lr.widgets.explore(path, node=top, dof="ux")
+>>> ex.index = 2
+>>> ex.canvas.index, round(ex.readout["λ"], 3)
+(2, 0.5)
+"""
+from __future__ import annotations
+
+import logging
+
+import ipywidgets as w
+import numpy as np
+import traitlets as t
+
+from ..model import DOFS
+from ..plotting import default_curve
+from ..results import EquilibriumPath, member_lines
+from . import data
+from ._errors import shown_in_widget
+from .canvas import ShapeCanvas
+
+__all__ = ["Explorer", "explore"]
+
+log = logging.getLogger(__name__)
+
+#: Milliseconds between frames of the play control (the browser draws at most once per
+#: animation frame, so a short interval plays as fast as the display allows).
+PLAY_INTERVAL = 30
+
+
+class Explorer(w.VBox):
+    """Deformed shape beside the equilibrium path, a point slider with play, a readout.
+
+    Parameters
+    ----------
+    path : EquilibriumPath
+    node, dof : int, str, optional
+        Abscissa of the path plot (default: the first loaded node's largest motion).
+    scale : float
+        Magnification of displacements in the shape (1: true scale).
+    forces : str
+        Force diagram shown: ``""``, ``"N"``, ``"V"`` or ``"M"``.
+    max_frames : int
+        Longer paths are subsampled evenly to this many frames.
+    width, height : int
+        Canvas size in pixels.
+    """
+
+    path = t.Instance(EquilibriumPath, allow_none=True, help="The path explored.")
+    curve_of = t.Tuple(t.Int(), t.Unicode(), default_value=(0, "ux"),
+                       help="(node, dof) plotted against the load factor.")
+    scale = t.Float(1.0, help="Magnification of displacements in the shape drawing.")
+    forces = t.Unicode("", help="Force diagram: '', 'N', 'V' or 'M'.")
+    max_frames = t.Int(data.MAX_FRAMES, help="Most frames sent to the browser.")
+    error = t.Unicode("", help="The last error raised by a callback ('' if none).")
+
+    def __init__(self, path: EquilibriumPath | None = None, node: int | None = None,
+                 dof: str | None = None, *, scale: float = 1.0, forces: str = "",
+                 max_frames: int = data.MAX_FRAMES, width: int = 900, height: int = 400,
+                 interval: int = PLAY_INTERVAL, **kwargs) -> None:
+        if forces not in ("", *data.FORCE_NAMES):
+            raise ValueError(f"`forces` must be '', 'N', 'V' or 'M', got {forces!r}.")
+        if int(max_frames) < 2:
+            raise ValueError(f"`max_frames` must be at least 2, got {max_frames!r}.")
+        self.canvas = ShapeCanvas(width=int(width), height=int(height))
+        self.play = w.Play(min=0, max=0, step=1, interval=int(interval), description="play")
+        self.slider = w.IntSlider(min=0, max=0, description="point", continuous_update=True,
+                                  layout=w.Layout(width="420px"))
+        w.jslink((self.play, "value"), (self.slider, "value"))
+        w.jslink((self.slider, "value"), (self.canvas, "index"))
+        self.menu = w.Dropdown(description="path of", options=[("ux of node 0", (0, "ux"))],
+                               layout=w.Layout(width="220px"))
+        self.force_buttons = w.ToggleButtons(
+            options=[("none", ""), ("N", "N"), ("V", "V"), ("M", "M")], value=forces,
+            description="forces", style={"button_width": "44px"},
+            tooltips=["no diagram", *data.FORCE_NAMES.values()])
+        self.ghost_box = w.Checkbox(value=True, description="undeformed", indent=False,
+                                    layout=w.Layout(width="110px"))
+        w.jslink((self.ghost_box, "value"), (self.canvas, "show_ghost"))
+        self.scale_box = w.BoundedFloatText(value=scale, min=1e-6, max=1e6, description="scale ×",
+                                            layout=w.Layout(width="150px"))
+        self.note = w.HTML("")
+        self.errors = w.Output(layout=w.Layout(display="none", border="1px solid #c0392b"))
+        self._points = np.zeros(0, dtype=int)
+        self._layout = None
+        super().__init__(children=[
+            w.HBox([self.play, self.slider, self.menu]),
+            self.canvas,
+            w.HBox([self.force_buttons, self.ghost_box, self.scale_box]),
+            self.note, self.errors], **kwargs)
+        self.max_frames = int(max_frames)
+        t.link((self.menu, "value"), (self, "curve_of"))
+        t.link((self.scale_box, "value"), (self, "scale"))
+        t.link((self.force_buttons, "value"), (self, "forces"))
+        self.slider.observe(self._slider_moved, "value")
+        if path is not None:
+            self.show(path, node=node, dof=dof)
+
+    # -- the point shown ------------------------------------------------------------
+    @property
+    def index(self) -> int:
+        """Frame shown (equal to the path point unless the path was subsampled)."""
+        return int(self.canvas.index)
+
+    @index.setter
+    def index(self, i: int) -> None:
+        n = max(1, len(self._points))
+        i = range(n)[int(i)]
+        with self.hold_sync():
+            self.slider.value = i
+            self.canvas.index = i
+
+    @property
+    def point(self) -> int:
+        """Path point shown."""
+        return int(self._points[self.index]) if len(self._points) else 0
+
+    @property
+    def readout(self) -> dict:
+        """What the readout shows at the current point: label -> value."""
+        if self.path is None or not len(self.path):
+            return {}
+        return data.readout(self.path, self.point, self.curve_of[0])
+
+    def _slider_moved(self, change) -> None:
+        # a move made in the browser reached the canvas there already (jslink); follow
+        # only moves made in Python, so no stale echo fights a playing animation
+        if "value" in getattr(self.slider, "_property_lock", {}):
+            return
+        if self.canvas.index != change["new"]:
+            self.canvas.index = change["new"]
+
+    # -- data -----------------------------------------------------------------------
+    def show(self, path: EquilibriumPath, node: int | None = None, dof: str | None = None,
+             index: int | str | None = None) -> None:
+        """Explore ``path`` (a new one, or the same one grown); ``index="last"`` jumps to its end."""
+        if not isinstance(path, EquilibriumPath):
+            raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
+        s = path.structure
+        options = data.curve_options(s)
+        if node is None or dof is None:
+            node, dof = default_curve(path) if self.path is None or \
+                self.path.structure is not s else self.curve_of
+        if dof not in DOFS:
+            raise ValueError(f"`dof` must be one of {', '.join(DOFS)}, got {dof!r}.")
+        if (node, dof) not in [v for _, v in options]:
+            options.append((f"{dof} of node {node}", (int(node), dof)))
+        old = self.index
+        self.path = path
+        self._points = data.frame_points(len(path), self.max_frames)
+        self._layout = data.layout(s, len(self._points))
+        with self.hold_sync(), self.canvas.hold_sync():
+            self.menu.options = options
+            self.menu.value = (int(node), dof)
+            self.curve_of = (int(node), dof)
+            self._send_shape()
+            self._send_curve()
+            self._send_forces()
+            n = len(self._points)
+            self.play.max = self.slider.max = max(0, n - 1)
+            i = n - 1 if index == "last" else (old if index is None else int(index))
+            self.index = min(max(i, 0), max(0, n - 1))
+
+    def _send_shape(self) -> None:
+        path, lay, pts = self.path, self._layout, self._points
+        fr = data.frames(path, pts, lay, self.scale)
+        ghost = lay.vertices(member_lines(path.structure, np.zeros(3 * path.structure.n_nodes), lay.n_sub))
+        c = self.canvas
+        c.n_frames, c.n_vertices = fr.shape[0], fr.shape[1]
+        c.frames = fr.tobytes()
+        c.ghost = ghost.astype(np.float32).tobytes()
+        c.starts = lay.starts.tobytes()
+        c.kinds = lay.kinds.tobytes()
+        c.element_ends = lay.element_ends.tobytes()
+        c.points = pts.astype(np.int32).tobytes()
+        c.bounds = data.bounds(fr, ghost)
+        c.symbols = data.symbols(path.structure, lay)
+
+    def _send_curve(self) -> None:
+        node, dof = self.curve_of
+        cv = data.curve(self.path, node, dof, self._points)
+        table = data.readout_table(self.path, node, self._points)
+        c = self.canvas
+        c.curve_x, c.curve_y = cv["x"].tobytes(), cv["y"].tobytes()
+        c.stable = cv["stable"].tobytes()
+        c.critical = cv["critical"]
+        c.x_label, c.y_label = cv["x_label"], cv["y_label"]
+        c.table_labels = list(table)
+        c.table = np.array(list(table.values()), dtype=np.float64).reshape(len(table), -1).tobytes()
+
+    def _send_forces(self) -> None:
+        c = self.canvas
+        name = self.forces
+        if not name:
+            c.force_kind, c.forces = "", b""
+            self.note.value = ""
+            return
+        values = data.member_force_table(self.path, self._points, name)
+        if values is None:
+            c.force_kind, c.forces = "", b""
+            self.note.value = (f"<i>This path carries no member forces ({data.FORCE_NAMES[name]}); "
+                               "no diagram drawn.</i>")
+            return
+        c.forces = values.astype(np.float32).tobytes()
+        c.force_max = float(np.abs(values).max()) or 1.0
+        c.force_kind = name
+        self.note.value = (f"{data.FORCE_NAMES[name]} diagram; largest |{name}| along the path "
+                           f"{c.force_max:.4g}")
+
+    # -- reactions --------------------------------------------------------------------
+    @t.observe("curve_of")
+    @shown_in_widget
+    def _curve_changed(self, change) -> None:
+        if self.path is not None and self._layout is not None:
+            with self.canvas.hold_sync():
+                self._send_curve()
+
+    @t.observe("scale")
+    @shown_in_widget
+    def _scale_changed(self, change) -> None:
+        if not change["new"] > 0:
+            raise ValueError(f"`scale` must be positive, got {change['new']!r}.")
+        if self.path is not None and self._layout is not None:
+            with self.canvas.hold_sync():
+                self._send_shape()
+
+    @t.observe("forces")
+    @shown_in_widget
+    def _forces_changed(self, change) -> None:
+        if self.path is not None and self._layout is not None:
+            with self.canvas.hold_sync():
+                self._send_forces()
+
+
+def explore(path: EquilibriumPath, node: int | None = None, dof: str | None = None,
+            **options) -> Explorer:
+    """Explore a traced path: shape and load–displacement curve, slider, play, readout.
+
+    ``node``/``dof`` choose the curve's abscissa; ``options`` go to :class:`Explorer`
+    (``scale``, ``forces``, ``max_frames``, ``width``, ``height``, ``interval``).
+    """
+    return Explorer(path, node, dof, **options)
