@@ -1,0 +1,495 @@
+"""largerot benchmark suite: ratios measured in one run on one machine.
+
+    python benchmarks/run.py                # full run (a few minutes)
+    python benchmarks/run.py --quick        # small sizes only (CI smoke test, < 1 min)
+    python benchmarks/run.py --json out.json --profile
+
+Sections (each a JSON key): ``iteration`` (one Newton iteration over a bare
+factorise-and-solve with scipy's splu), ``baseline`` (vs the hand-written loop in
+baseline.py), ``scaling`` (time per path step vs element count), ``efficiency``
+(Newton iterations per point), ``latency`` (interactive re-trace, widget frame),
+``memory`` (peak memory of a long trace, in a subprocess). Absolute times are
+indicative; the ratios are the figures that matter.
+
+For figures comparable with a plain numpy install, run it with OPENBLAS_CORETYPE and
+OPENBLAS_L2_SIZE unset in that one command (the BLAS kernel in use is recorded).
+"""
+from __future__ import annotations
+
+import os
+
+# One BLAS thread unless told otherwise: the dense baseline's multi-threaded solves are
+# erratic on a small shared machine, and SuperLU is single-threaded anyway. (Set before
+# numpy is imported; OPENBLAS_CORETYPE is left alone.)
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+
+import argparse  # noqa: E402
+import datetime  # noqa: E402
+import gc
+import json  # noqa: E402
+import platform  # noqa: E402
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import scipy
+import scipy.sparse.linalg as spla
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE))
+
+import largerot as lr  # noqa: E402
+from largerot import linalg  # noqa: E402
+from largerot.assembly import Assembly  # noqa: E402
+from largerot.solvers.newton import LoadConstraint, newton  # noqa: E402
+from largerot.solvers.problem import Problem  # noqa: E402
+
+import baseline  # noqa: E402
+import models  # noqa: E402
+
+GOALS = {"iteration_ratio_max": 1.3, "baseline_speedup_min": 30.0,
+         "scaling_exponent_max": 1.1, "iterations_per_point_max": 4.0, "frame_ms_max": 15.0}
+
+FULL = dict(iteration=[1000, 10000, 100000], baseline=[100, 1000],
+            scaling=[1000, 3000, 10000, 30000, 100000], scaling_steps=4,
+            conditioning=[1000, 10000, 100000],
+            memory=(100000, 20), frame_points=1000, repeat=5)
+QUICK = dict(iteration=[1000, 3000], baseline=[20, 50], scaling=[500, 1000, 2000],
+             scaling_steps=2, conditioning=[300, 1000], memory=(2000, 5), frame_points=100, repeat=2)
+
+
+def best(fn, repeat: int) -> float:
+    """Smallest wall time of ``repeat`` calls (the least disturbed by other load)."""
+    times = []
+    for _ in range(max(1, repeat)):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return min(times)
+
+
+def machine() -> dict:
+    info = {"python": platform.python_version(), "numpy": np.__version__,
+            "scipy": scipy.__version__, "largerot": lr.__version__,
+            "cpu": platform.processor() or platform.machine(), "n_cpu": os.cpu_count(),
+            "OPENBLAS_CORETYPE": os.environ.get("OPENBLAS_CORETYPE"),
+            "OPENBLAS_L2_SIZE": os.environ.get("OPENBLAS_L2_SIZE"),
+            "OPENBLAS_NUM_THREADS": os.environ.get("OPENBLAS_NUM_THREADS")}
+    try:
+        with open("/proc/cpuinfo") as fh:
+            for line in fh:
+                if line.startswith("model name"):
+                    info["cpu"] = line.split(":", 1)[1].strip()
+                    break
+    except OSError:
+        pass
+    try:
+        from threadpoolctl import threadpool_info
+        info["blas"] = [{k: d.get(k) for k in ("internal_api", "architecture", "num_threads", "version")}
+                        for d in threadpool_info()]
+    except ImportError:
+        info["blas"] = "threadpoolctl not installed"
+    return info
+
+
+# -- 1. one Newton iteration against the sparse-solve floor ----------------------------------------
+def iteration_case(kind: str, n: int, repeat: int) -> dict:
+    build = models.pole if kind == "cantilever" else models.lattice
+    s, _ = build(n)
+    t = time.perf_counter()
+    A = Assembly.of(s)
+    setup = time.perf_counter() - t
+    P = Problem(A)
+    # a representative state: the linear prediction at λ = 0.5 (large rotations for the pole)
+    _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+    lam = 0.5
+    u = lam * linalg.factorize(K0).solve(P.F)
+    uf = A.expand(u)
+    g = A.groups[0]
+    ue = uf[g.dofmap]
+    fe, Ke, _ = g.kernel(ue, True)
+    f, K, _, _ = A.evaluate(uf)
+    rhs = np.column_stack([P.F, P.F])
+
+    def scatter():
+        np.bincount(g.dofmap.ravel(), weights=fe.ravel(), minlength=A.n_dof)
+        np.bincount(g.positions, weights=Ke.ravel(), minlength=A.nnz + 1)
+
+    def csc():
+        import scipy.sparse as sp
+        sp.csc_matrix((K.data, A.indices, A.indptr), shape=K.shape)
+
+    def floor():
+        spla.splu(K).solve(rhs)
+
+    lib_opts = dict(permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                    options=dict(SymmetricMode=True))
+    fact = linalg.factorize(K)
+
+    def newton_iter():
+        n0 = P.n_evaluations
+        newton(P, u, lam, LoadConstraint(lam), np.zeros(P.n), max_iterations=2)
+        return P.n_evaluations - n0
+
+    n_eval = newton_iter()
+    t_newton = best(newton_iter, repeat) / n_eval
+    out = {
+        "model": kind, "n_elements": int(sum(len(x.dofmap) for x in A.groups)),
+        "n_free": int(A.n_free), "nnz_K": int(A.nnz), "setup_s": setup,
+        "gather_s": best(lambda: uf[g.dofmap], repeat),
+        "kernel_s": best(lambda: g.kernel(ue, True), repeat),
+        "scatter_s": best(scatter, repeat),
+        "csc_s": best(csc, repeat),
+        "evaluate_s": best(lambda: A.evaluate(uf), repeat),
+        "splu_library_options_s": best(lambda: spla.splu(K, **lib_opts), repeat),
+        "factorize_s": best(lambda: linalg.factorize(K), repeat),
+        "solve_s": best(lambda: fact.solve(rhs), repeat),
+        "floor_s": best(floor, repeat),
+        "iteration_s": t_newton,
+        "min_pivot_ratio": float(np.min(fact.pivot_ratio)),
+        "n_factor_nnz": int(fact.lu.nnz),
+    }
+    out["inertia_extra_s"] = out["factorize_s"] - out["splu_library_options_s"]
+    out["ratio"] = out["iteration_s"] / out["floor_s"]
+    return out
+
+
+# -- 2. against the hand-written loop -------------------------------------------------------------
+def baseline_case(n: int, repeat: int) -> dict:
+    sec, P = models.pole_section(), models.POLE
+    t = time.perf_counter()
+    lams, ux, uy, its = baseline.trace_pole(n, P["length"], sec.EA, sec.EI, P["tip_load"])
+    t_base = time.perf_counter() - t
+    holder = {}
+
+    def run_lr():
+        s, top = models.pole(n)
+        path = lr.trace(s, lr.by_load(0.1), target_load_factor=1.0)
+        holder["path"], holder["top"] = path, top
+
+    t_lr = best(run_lr, repeat)
+    path, top = holder["path"], holder["top"]
+    tip = np.hypot(ux[-1], uy[-1])
+    dev = max(np.abs(path.displacement(top, "ux") - ux).max(),
+              np.abs(path.displacement(top, "uy") - uy).max()) / tip
+    return {"n_elements": n, "baseline_s": t_base, "largerot_s": t_lr, "speedup": t_base / t_lr,
+            "points": len(lams), "same_iterations": bool(np.array_equal(its, path.iterations)),
+            "tip_relative_difference": float(dev), "tip_ux": float(ux[-1])}
+
+
+# -- 3. scaling -----------------------------------------------------------------------------------
+def scaling(sizes, n_steps: int) -> dict:
+    """Time per converged step of the lattice frame (the pole's Newton fails on fine meshes, see
+    ``conditioning``)."""
+    rows = []
+    for n in sizes:
+        s, _ = models.lattice(n)
+        Assembly.of(s)
+        t = time.perf_counter()
+        path = lr.trace(s, lr.by_load(1.0 / n_steps), target_load_factor=1.0)
+        dt = time.perf_counter() - t
+        steps = len(path) - 1
+        rows.append({"model": "lattice", "n_elements": int(len(s.element_table("beam")[0])),
+                     "status": path.status, "steps": steps, "step_s": dt / max(steps, 1),
+                     "iterations_per_point": float(np.mean(path.iterations[1:])),
+                     "step_per_iteration_s": dt / path.counters["residual_evaluations"]})
+    x = np.log([r["n_elements"] for r in rows])
+    exponent = float(np.polyfit(x, np.log([r["step_s"] for r in rows]), 1)[0])
+    exp_it = float(np.polyfit(x, np.log([r["step_per_iteration_s"] for r in rows]), 1)[0])
+    return {"rows": rows, "exponent": exponent, "exponent_per_iteration": exp_it}
+
+
+# -- 3b. conditioning of the fine cantilever --------------------------------------------------------
+def conditioning(sizes) -> list:
+    """Smallest pivot ratio of the tangent and the residual floor of Newton's method for the pole.
+
+    The floor is the smallest relative residual Newton reaches on the first load step
+    (λ = 0.1) from the library's own predictor, next to the round-off estimate
+    ε·‖|K|·|u|‖ / scale (u total displacements): Newton's residual test ``tol`` can only
+    pass where this floor lies below it.
+    """
+    rows = []
+    for n in sizes:
+        s, _ = models.pole(n)
+        A = Assembly.of(s)
+        P = Problem(A)
+        _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+        F0 = linalg.Factorization(K0)
+        lam = 0.1
+        u = lam * F0.solve(P.F)
+        res = newton(P, u, lam, LoadConstraint(lam), np.zeros(P.n), tol=1e-300, tol_u=1e-300,
+                     max_iterations=14)
+        r, K, scale = P.residual(res.u, lam)
+        estimate = np.finfo(float).eps * float(np.linalg.norm(abs(K) @ abs(res.u))) / scale
+        rows.append({"n_elements": n, "min_pivot_ratio_unloaded": float(F0.pivot_ratio.min()),
+                     "min_pivot_ratio_loaded": float(linalg.Factorization(K).pivot_ratio.min()),
+                     "singular_pivot_threshold": linalg.SINGULAR_PIVOT,
+                     "residual_floor": float(np.min(res.residuals)),
+                     "roundoff_estimate": estimate,
+                     "iterations_to_1e-3": int(np.argmax(res.residuals < 1e-3))
+                     if np.any(res.residuals < 1e-3) else None,
+                     "newton_message": res.message})
+    return rows
+
+
+# -- 4. path efficiency ---------------------------------------------------------------------------
+def _path_stats(name, path, control, seconds):
+    its = path.iterations[1:]
+    return {"example": name, "control": control, "status": path.status, "points": len(path),
+            "iterations_per_point": float(np.mean(its)) if len(its) else float("nan"),
+            "max_iterations": int(its.max()) if len(its) else 0,
+            "step_cuts": int(path.counters.get("step_cuts", 0)), "seconds": seconds}
+
+
+def _timed(fn):
+    t = time.perf_counter()
+    out = fn()
+    return out, time.perf_counter() - t
+
+
+def efficiency() -> list:
+    rows = []
+    s, top = models.pole(40)
+    path, dt = _timed(lambda: lr.trace(s, lr.by_load(0.05), target_load_factor=1.0, tol=1e-8))
+    rows.append(_path_stats("pole", path, "by_load(0.05)", dt))
+    arc = getattr(lr, "by_arc_length", None)
+    cases = [("arch snap-through", models.arch, lambda p, n: p.displacement(n, "uy") < -2.5, 0.05),
+             ("snap-back frame", models.snap_back_frame, lambda p, n: p.displacement(n, "uy") < -1.5, 0.05)]
+    for name, build, done, step in cases:
+        if arc is None:
+            rows.append({"example": name, "status": "skipped: lr.by_arc_length does not exist yet"})
+            continue
+        try:
+            s, node = build()
+            path, dt = _timed(lambda: lr.trace(s, arc(step), max_steps=400, tol=1e-8,
+                                               stop=lambda p: done(p, node)))
+            rows.append(_path_stats(name, path, f"by_arc_length({step})", dt))
+        except Exception as exc:  # report, do not hide: an API still being written
+            rows.append({"example": name, "status": f"error: {type(exc).__name__}: {exc}"})
+    if not hasattr(lr.Structure, "cable"):
+        rows.append({"example": "catenary", "status": "skipped: Structure.cable does not exist yet"})
+    else:
+        try:
+            s, mid = models.catenary()
+            path, dt = _timed(lambda: lr.trace(s, lr.by_load(0.1), target_load_factor=1.0, tol=1e-8))
+            rows.append(_path_stats("catenary", path, "by_load(0.1)", dt))
+        except Exception as exc:
+            rows.append({"example": "catenary", "status": f"error: {type(exc).__name__}: {exc}"})
+    return rows
+
+
+# -- 5. interactive latency -----------------------------------------------------------------------
+def latency(frame_points: int, repeat: int) -> dict:
+    arc = getattr(lr, "by_arc_length", None)
+
+    def retrace():
+        s, _ = models.pole(40)
+        if arc is not None:
+            return lr.trace(s, arc(0.05), max_steps=50)
+        return lr.trace(s, lr.by_load(1.0 / 50), target_load_factor=1.0)
+
+    out = {"retrace_control": "by_arc_length(0.05)" if arc is not None else "by_load(0.02)",
+           "retrace_s": best(retrace, repeat), "retrace_points": len(retrace())}
+    s, _ = models.pole(200)
+    path = lr.trace(s, lr.by_load(1.0 / frame_points), target_load_factor=1.0)
+    out["frame_model"] = {"n_elements": 200, "points": len(path)}
+    idx = np.random.default_rng(0).integers(0, len(path), 50)
+
+    def proxy():                  # what any frame must compute: the deformed shape of a point
+        for i in idx:
+            path.shape(int(i))
+
+    out["frame_proxy_ms"] = 1e3 * best(proxy, repeat) / len(idx)
+    try:
+        import largerot.widgets as w  # noqa: F401
+    except ImportError:
+        out["widget_frame_ms"] = None
+        out["widget_status"] = "not available: largerot.widgets does not exist yet"
+        return out
+    out["widget_frame_ms"], out["widget_status"] = _widget_frame(w, path, idx, repeat)
+    return out
+
+
+def _widget_frame(w, path, idx, repeat):
+    """Python-side time of one slider move, and of preparing all frames once.
+
+    A public explorer class of ``largerot.widgets`` taking a path and having an ``index``
+    trait is used if there is one; otherwise the drawing surface of the package's data
+    layer (``widgets.data`` frames into a ``widgets.canvas.ShapeCanvas``).
+    """
+    try:
+        for name in getattr(w, "__all__", []):
+            cls = getattr(w, name)
+            if isinstance(cls, type) and hasattr(cls, "class_trait_names") and "index" in cls.class_trait_names():
+                try:
+                    widget = cls(path)
+                except Exception:
+                    continue
+                break
+        else:
+            from largerot.widgets import canvas, data
+            name = "widgets.data.frames + canvas.ShapeCanvas"
+            t = time.perf_counter()
+            pts = data.frame_points(len(path))
+            lay = data.layout(path.structure, len(pts))
+            fr = data.frames(path, pts, lay)
+            prepare = time.perf_counter() - t
+            widget = canvas.ShapeCanvas(frames=fr.tobytes(), n_frames=len(pts),
+                                        n_vertices=lay.n_vertices)
+            name += f" (all {len(pts)} frames prepared once in {1e3 * prepare:.0f} ms)"
+
+        def move():
+            for i in idx:
+                widget.index = int(i)
+
+        return 1e3 * best(move, repeat) / len(idx), name
+    except Exception as exc:
+        return None, f"error: {type(exc).__name__}: {exc}"
+
+
+# -- 6. memory ------------------------------------------------------------------------------------
+def memory_child(n: int, points: int) -> dict:
+    import resource
+    import tracemalloc
+
+    s, _ = models.lattice(n)
+    Assembly.of(s)
+    gc.collect()
+    rss_model = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    tracemalloc.start()
+    path = lr.trace(s, lr.by_load(1.0 / points), target_load_factor=1.0)
+    current, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    gc.collect()
+    structures = sum(isinstance(o, lr.Structure) for o in gc.get_objects())
+    u_bytes = path._u_free.nbytes
+    return {"model": "lattice", "n_elements": int(len(s.element_table("beam")[0])),
+            "status": path.status, "points": len(path), "n_free": int(path.free.size),
+            "rss_after_model_MB": rss_model,
+            "rss_peak_MB": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
+            "tracemalloc_peak_MB": peak / 2**20, "tracemalloc_kept_MB": current / 2**20,
+            "path_u_MB": u_bytes / 2**20,
+            "path_u_bytes_per_point_per_free_dof": u_bytes / (len(path) * path.free.size),
+            "structures_alive": structures, "path_shares_structure": path.structure is s}
+
+
+def memory(n: int, points: int) -> dict:
+    cmd = [sys.executable, str(Path(__file__).resolve()), "--memory-child", str(n), str(points)]
+    out = subprocess.run(cmd, capture_output=True, text=True, check=True)
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+# -- profile (by hand) ----------------------------------------------------------------------------
+def profile(sizes, out_dir: Path) -> None:
+    import cProfile
+    import pstats
+
+    for n in sizes:
+        s, _ = models.pole(n)
+        pr = cProfile.Profile()
+        pr.enable()
+        lr.trace(s, lr.by_load(0.1), target_load_factor=1.0, max_steps=3)
+        pr.disable()
+        path = out_dir / f"profile_{n}.txt"
+        with open(path, "w") as fh:
+            pstats.Stats(pr, stream=fh).sort_stats("tottime").print_stats(25)
+        print(f"profile written to {path}")
+
+
+# -- report ---------------------------------------------------------------------------------------
+def _fmt(x, spec="8.3g"):
+    return "—" if x is None else format(x, spec)
+
+
+def table(res: dict) -> str:
+    L = [f"largerot benchmarks ({res['mode']}), {res['date']}, {res['machine']['cpu']}, "
+         f"{res['machine']['n_cpu']} CPU, BLAS {res['machine']['blas']}"]
+    L.append("\n1. One Newton iteration / (scipy splu factorise + solve of the same K)   goal ≤ 1.3 at ≥ 10,000")
+    L.append(f"{'model':>11} {'elements':>9} {'kernel':>8} {'scatter':>8} {'csc':>8} {'factorize':>9}"
+             f" {'(splu)':>8} {'solve':>8} {'iteration':>9} {'floor':>8} {'ratio':>6} {'min pivot':>9}")
+    for r in res["iteration"]:
+        L.append(f"{r['model']:>11} {r['n_elements']:9d} {r['kernel_s']:8.4f} {r['scatter_s']:8.4f}"
+                 f" {r['csc_s']:8.4f} {r['factorize_s']:9.4f} {r['splu_library_options_s']:8.4f}"
+                 f" {r['solve_s']:8.4f} {r['iteration_s']:9.4f} {r['floor_s']:8.4f} {r['ratio']:6.2f}"
+                 f" {r['min_pivot_ratio']:9.2e}")
+    L.append("   (seconds, best of repeats; floor = splu(K) default options + 2-column solve)")
+    L.append("\n2. Hand-written loop + dense solve vs largerot, pole by load control   goal ≥ 30× at 1,000")
+    for r in res["baseline"]:
+        L.append(f"   {r['n_elements']:6d} elements: baseline {r['baseline_s']:8.3f} s, largerot "
+                 f"{r['largerot_s']:7.4f} s, speed-up {r['speedup']:7.1f}×, tip difference "
+                 f"{r['tip_relative_difference']:.1e} of the tip displacement, same iterations: "
+                 f"{r['same_iterations']}")
+    sc = res["scaling"]
+    L.append(f"\n3. Time per path step (lattice frame, load control)   goal exponent ≤ 1.1: "
+             f"fitted {sc['exponent']:.3f} (per iteration {sc['exponent_per_iteration']:.3f})")
+    for r in sc["rows"]:
+        L.append(f"   {r['n_elements']:7d} elements: {r['step_s']:8.4f} s/step, "
+                 f"{r['iterations_per_point']:.2f} iterations/point, {r['status']}")
+    L.append("\n3b. Pole conditioning: smallest |pivot|/diagonal (threshold "
+             f"{linalg.SINGULAR_PIVOT:g}) and Newton's residual floor on the first step (tol 1e-8)")
+    for r in res["conditioning"]:
+        L.append(f"   {r['n_elements']:7d} elements: pivot ratio unloaded {r['min_pivot_ratio_unloaded']:.2e},"
+                 f" loaded {r['min_pivot_ratio_loaded']:.2e}; residual floor {r['residual_floor']:.1e}"
+                 f" (round-off estimate {r['roundoff_estimate']:.1e}); {r['newton_message']}")
+    L.append("\n4. Path efficiency at tol = 1e-8   goal mean ≤ 4 iterations per point")
+    for r in res["efficiency"]:
+        if "points" in r:
+            L.append(f"   {r['example']:>18}: {r['control']}, {r['points']} points, "
+                     f"{r['iterations_per_point']:.2f} iterations/point (max {r['max_iterations']}), "
+                     f"{r['step_cuts']} cuts, {r['status']}")
+        else:
+            L.append(f"   {r['example']:>18}: {r['status']}")
+    la = res["latency"]
+    L.append("\n5. Interactive latency")
+    L.append(f"   40-element pole, {la['retrace_points']} points by {la['retrace_control']}: "
+             f"{1e3 * la['retrace_s']:.1f} ms")
+    L.append(f"   frame proxy (path.shape of one point, 200 elements, {la['frame_model']['points']}-point "
+             f"path): {la['frame_proxy_ms']:.2f} ms")
+    L.append(f"   widget frame update: {_fmt(la['widget_frame_ms'])} ms ({la['widget_status']})")
+    m = res["memory"]
+    L.append(f"\n6. Memory of a {m['n_elements']}-element {m['model']}, {m['points'] - 1}-step trace "
+             f"(subprocess), {m['status']}")
+    L.append(f"   RSS after model {m['rss_after_model_MB']:.0f} MB, peak {m['rss_peak_MB']:.0f} MB; "
+             f"tracemalloc peak during trace {m['tracemalloc_peak_MB']:.0f} MB; path displacements "
+             f"{m['path_u_MB']:.1f} MB ({m['path_u_bytes_per_point_per_free_dof']:.0f} B per point per "
+             f"free DOF); structures alive {m['structures_alive']}, path shares the structure: "
+             f"{m['path_shares_structure']}")
+    return "\n".join(L)
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="small sizes only (CI smoke test)")
+    ap.add_argument("--json", default=str(HERE / "results.json"), help="where to write the results")
+    ap.add_argument("--profile", action="store_true", help="also write cProfile reports of traces")
+    ap.add_argument("--memory-child", nargs=2, type=int, help=argparse.SUPPRESS)
+    args = ap.parse_args(argv)
+    if args.memory_child:
+        print(json.dumps(memory_child(*args.memory_child)))
+        return 0
+    cfg = QUICK if args.quick else FULL
+    t0 = time.perf_counter()
+    res = {"mode": "quick" if args.quick else "full",
+           "date": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
+           "machine": machine(), "goals": GOALS}
+    res["iteration"] = [iteration_case(kind, n, cfg["repeat"])
+                        for kind in ("cantilever", "lattice") for n in cfg["iteration"]]
+    res["baseline"] = [baseline_case(n, cfg["repeat"]) for n in cfg["baseline"]]
+    res["scaling"] = scaling(cfg["scaling"], cfg["scaling_steps"])
+    res["conditioning"] = conditioning(cfg["conditioning"])
+    res["efficiency"] = efficiency()
+    res["latency"] = latency(cfg["frame_points"], cfg["repeat"])
+    res["memory"] = memory(*cfg["memory"])
+    res["total_s"] = time.perf_counter() - t0
+    print(table(res))
+    print(f"\ntotal {res['total_s']:.1f} s; results written to {args.json}")
+    Path(args.json).write_text(json.dumps(res, indent=1))
+    if args.profile:
+        profile([1000] if args.quick else [10000, 100000], Path(args.json).parent)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
