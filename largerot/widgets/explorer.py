@@ -76,8 +76,9 @@ class Explorer(w.VBox):
         self.menu = w.Dropdown(description="path of", options=[("ux of node 0", (0, "ux"))],
                                layout=w.Layout(width="220px"))
         self.force_buttons = w.ToggleButtons(
-            options=[("none", ""), ("N", "N"), ("V", "V"), ("M", "M")], value=forces,
-            description="forces", style={"button_width": "44px"},
+            options=[("off", ""), ("N", "N"), ("V", "V"), ("M", "M")], value=forces,
+            description="forces", style={"button_width": "46px", "description_width": "50px"},
+            layout=w.Layout(width="auto"),
             tooltips=["no diagram", *data.FORCE_NAMES.values()])
         self.ghost_box = w.Checkbox(value=True, description="undeformed", indent=False,
                                     layout=w.Layout(width="110px"))
