@@ -388,19 +388,31 @@ def memory(n: int, points: int) -> dict:
 
 # -- profile (by hand) ----------------------------------------------------------------------------
 def profile(sizes, out_dir: Path) -> None:
+    """cProfile of a 4-step lattice trace and of 6 Newton iterations on the pole, per size."""
     import cProfile
     import pstats
 
     for n in sizes:
-        s, _ = models.pole(n)
-        pr = cProfile.Profile()
-        pr.enable()
-        lr.trace(s, lr.by_load(0.1), target_load_factor=1.0, max_steps=3)
-        pr.disable()
-        path = out_dir / f"profile_{n}.txt"
-        with open(path, "w") as fh:
-            pstats.Stats(pr, stream=fh).sort_stats("tottime").print_stats(25)
-        print(f"profile written to {path}")
+        jobs = {"lattice": lambda: lr.trace(models.lattice(n)[0], lr.by_load(0.25),
+                                            target_load_factor=1.0)}
+
+        def pole_newton():
+            s, _ = models.pole(n)
+            P = Problem(Assembly.of(s))
+            _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+            u = 0.1 * linalg.factorize(K0).solve(P.F)
+            newton(P, u, 0.1, LoadConstraint(0.1), np.zeros(P.n), max_iterations=5)
+
+        jobs["pole"] = pole_newton
+        for name, job in jobs.items():
+            pr = cProfile.Profile()
+            pr.enable()
+            job()
+            pr.disable()
+            path = out_dir / f"profile_{name}_{n}.txt"
+            with open(path, "w") as fh:
+                pstats.Stats(pr, stream=fh).sort_stats("tottime").print_stats(25)
+            print(f"profile written to {path}")
 
 
 # -- report ---------------------------------------------------------------------------------------
