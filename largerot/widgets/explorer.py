@@ -77,8 +77,7 @@ class Explorer(w.VBox):
                                layout=w.Layout(width="220px"))
         self.force_buttons = w.ToggleButtons(
             options=[("off", ""), ("N", "N"), ("V", "V"), ("M", "M")], value=forces,
-            description="forces", style={"button_width": "46px", "description_width": "50px"},
-            layout=w.Layout(width="auto"),
+            style={"button_width": "46px"}, layout=w.Layout(width="auto"),
             tooltips=["no diagram", *data.FORCE_NAMES.values()])
         self.ghost_box = w.Checkbox(value=True, description="undeformed", indent=False,
                                     layout=w.Layout(width="110px"))
@@ -92,7 +91,7 @@ class Explorer(w.VBox):
         super().__init__(children=[
             w.HBox([self.play, self.slider, self.menu]),
             self.canvas,
-            w.HBox([self.force_buttons, self.ghost_box, self.scale_box]),
+            w.HBox([w.Label("forces"), self.force_buttons, self.ghost_box, self.scale_box]),
             self.note, self.errors], **kwargs)
         self.max_frames = int(max_frames)
         t.link((self.menu, "value"), (self, "curve_of"))

@@ -82,7 +82,7 @@ class Live(w.VBox):
     target = t.Float(1.0, help="Value of the run's target.")
     step_size = t.Float(0.1, help="Step of the control, in its own measure.")
     n_points = t.Int(0, help="Points traced so far (including the unloaded state).")
-    messages = t.List(t.Unicode(), help="Solver messages, oldest first.")
+    messages = t.List(t.Unicode(), help="Solver messages, oldest first (shown newest first).")
     error = t.Unicode("", help="The last error raised by a callback ('' if none).")
 
     def __init__(self, structure, control, *, target_load_factor: float | None = 1.0,
@@ -279,7 +279,7 @@ class Live(w.VBox):
             self.state_label.value = (f"&nbsp;{n} points, λ = {lam:.4g}, step {self.stepper.h:.3g}, "
                                       f"<b>{self.stepper.status}</b>")
             self.log_view.value = "<pre style='margin:2px'>" + html.escape(
-                "\n".join(self.messages[-12:])) + "</pre>"
+                "\n".join(reversed(self.messages[-12:]))) + "</pre>"
 
     @t.observe("step_size")
     @shown_in_widget

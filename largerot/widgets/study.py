@@ -156,7 +156,10 @@ class Study(w.VBox):
             t0 = time.perf_counter()
             try:
                 path = self._path(params)
-                self.explorer.show(path, *self._curve if self.explorer.path is None else (None, None))
+                if self.explorer.path is None:          # first build: show the end of the path
+                    self.explorer.show(path, *self._curve, index="last")
+                else:                                   # later: keep the point in view
+                    self.explorer.show(path)
                 self.values = params
                 self.error = ""
                 self.errors.outputs = ()

@@ -10,6 +10,7 @@ asserted: it depends on the machine.
 Outside CI the test is skipped when chromium is missing; with ``CI=true`` it fails.
 ``LARGEROT_SCREENSHOT=path.png`` also saves the screenshot there (docs/explorer.png).
 """
+import contextlib
 import json
 import os
 import pathlib
@@ -58,14 +59,17 @@ def _free_port() -> int:
         return sock.getsockname()[1]
 
 
-@pytest.fixture
-def lab(tmp_path):
-    """A JupyterLab server on localhost with everything in temporary directories."""
+@contextlib.contextmanager
+def running_lab(tmp_path: pathlib.Path, notebook: pathlib.Path):
+    """A JupyterLab server on localhost with everything in temporary directories.
+
+    Yields its URL; ``notebook`` is copied into its root.
+    """
     root, data, settings = tmp_path / "root", tmp_path / "data", tmp_path / "app-settings"
     for d in (root, data, settings, tmp_path / "user-settings", tmp_path / "workspaces",
               tmp_path / "config", tmp_path / "runtime"):
         d.mkdir()
-    shutil.copy(HERE / "explorer.ipynb", root / "explorer.ipynb")
+    shutil.copy(notebook, root / notebook.name)
     (settings / "overrides.json").write_text(json.dumps({
         "@jupyterlab/notebook-extension:tracker": {"windowingMode": "none"},
         "@jupyterlab/apputils-extension:notification": {"fetchNews": "false",
@@ -104,7 +108,8 @@ def lab(tmp_path):
                 pass
             if proc.poll() is not None or time.monotonic() > end:
                 log.flush()
-                pytest.fail("JupyterLab did not start:\n" + (tmp_path / "lab.log").read_text()[-3000:])
+                raise RuntimeError("JupyterLab did not start:\n"
+                                   + (tmp_path / "lab.log").read_text()[-3000:])
             time.sleep(0.3)
         yield url
     finally:
@@ -114,6 +119,31 @@ def lab(tmp_path):
         except subprocess.TimeoutExpired:
             proc.kill()
         log.close()
+
+
+KERNEL_IDLE = ("() => { const w = window.jupyterapp && window.jupyterapp.shell.currentWidget;"
+               " const k = w && w.sessionContext && w.sessionContext.session"
+               " && w.sessionContext.session.kernel; return !!k && k.status === 'idle'; }")
+
+
+def open_and_run(page, url: str, name: str) -> None:
+    """Open a notebook in JupyterLab, run all its cells, wait until the kernel is idle."""
+    page.goto(f"{url}/lab/tree/{name}")
+    page.wait_for_function(KERNEL_IDLE, timeout=NOTEBOOK_RUN * 1000)
+    page.evaluate("window.jupyterapp.commands.execute('notebook:run-all-cells')")
+    page.wait_for_function(
+        "() => [...document.querySelectorAll('.jp-OutputArea-output')]"
+        ".some(e => e.textContent.includes('ALL CELLS RAN'))", timeout=NOTEBOOK_RUN * 1000)
+    page.wait_for_function(KERNEL_IDLE, timeout=NOTEBOOK_RUN * 1000)
+
+
+@pytest.fixture
+def lab(tmp_path):
+    try:
+        with running_lab(tmp_path, HERE / "explorer.ipynb") as url:
+            yield url
+    except RuntimeError as exc:
+        pytest.fail(str(exc))
 
 
 def _canvas_image(page) -> str:
@@ -128,30 +158,18 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
             page = browser.new_page(viewport={"width": 1400, "height": 1100})
             errors = []
             page.on("pageerror", lambda e: errors.append(str(e)))
-            page.goto(f"{lab}/lab/tree/explorer.ipynb")
-            page.wait_for_function(
-                "() => window.jupyterapp && window.jupyterapp.shell.currentWidget"
-                " && window.jupyterapp.shell.currentWidget.sessionContext"
-                " && window.jupyterapp.shell.currentWidget.sessionContext.session"
-                " && window.jupyterapp.shell.currentWidget.sessionContext.session.kernel"
-                " && window.jupyterapp.shell.currentWidget.sessionContext.session.kernel.status === 'idle'",
-                timeout=NOTEBOOK_RUN * 1000)
-            page.evaluate("window.jupyterapp.commands.execute('notebook:run-all-cells')")
-            page.wait_for_selector(".largerot-readout", timeout=NOTEBOOK_RUN * 1000)
-            page.wait_for_function(
-                "() => [...document.querySelectorAll('.jp-OutputArea-output')]"
-                ".some(e => e.textContent.includes('EXPECT'))", timeout=NOTEBOOK_RUN * 1000)
-            page.wait_for_function(
-                "() => window.jupyterapp.shell.currentWidget.sessionContext.session.kernel.status"
-                " === 'idle'", timeout=NOTEBOOK_RUN * 1000)
+            open_and_run(page, lab, "explorer.ipynb")
             page.wait_for_function("() => (window.__largerot || {}).draws > 0", timeout=30_000)
             expect = page.locator(".jp-OutputArea-output", has_text="EXPECT").inner_text()
             lam = re.search(r"λ = (\S+)", expect).group(1)
 
-            explorer = page.locator(".widget-vbox", has=page.locator(".largerot-canvas")).last
+            explorer = page.locator(".jp-OutputArea-output", has=page.locator(".largerot-canvas")).first
             explorer.scroll_into_view_if_needed()
+            page.wait_for_function(
+                "() => document.querySelector('.largerot-readout').textContent.includes('point 0 of 1000')",
+                timeout=10_000)
             before = _canvas_image(page)
-            assert "point 0 of 1000" in page.locator(".largerot-readout").inner_text()
+            py_ms = page.locator(".jp-OutputArea-output", has_text="PYTHON index").inner_text()
 
             # move the point slider: type into its editable readout
             slider = explorer.locator(".widget-slider", has_text="point")
@@ -163,7 +181,7 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
             page.wait_for_function(
                 "() => document.querySelector('.largerot-readout').textContent.includes('point 600 of')",
                 timeout=10_000)
-            text = page.locator(".largerot-readout").inner_text()
+            text = explorer.locator(".largerot-readout").inner_text()
             assert f"λ = {lam}" in text, text
             after = _canvas_image(page)
             assert after != before                      # the drawn shape changed
@@ -203,10 +221,45 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
                       f"{m['ms'] / max(1, m['draws']):.2f} ms per draw, 200 elements, "
                       f"1001 points, reached point {m['index']}")
             print(report)
+            print(py_ms.strip())
             record_property("playback_fps", round(fps, 1))
             record_property("draw_ms", round(m["ms"] / max(1, m["draws"]), 3))
             assert m["draws"] > 10 and m["index"] > 10   # frames were drawn while playing
             assert played != after
+
+            # live stepping: run to λ = 1 in the kernel's background thread
+            lv = page.locator(".jp-OutputArea-output", has=page.locator("button", has_text="reset")).first
+            lv.scroll_into_view_if_needed()
+            lv.locator("button", has_text="run").first.click()
+            page.wait_for_function(
+                "() => [...document.querySelectorAll('.widget-html')]"
+                ".some(e => e.textContent.includes('21 points') && e.textContent.includes('finished'))",
+                timeout=60_000)
+            readouts = page.locator(".largerot-readout")
+            page.wait_for_function(
+                "() => document.querySelectorAll('.largerot-readout')[1].textContent.includes('λ = 1 ')")
+            assert "point 20 of 20" in readouts.nth(1).inner_text()
+            assert "Reached the target load factor" in lv.inner_text() or "finished" in lv.inner_text()
+            assert readouts.count() == 4       # explorer, live view, study panel, force diagram
+
+            # the force diagram toggle: the drawing with the diagram differs from without
+            fd = page.locator(".jp-OutputArea-output", has_text="point 10 of 10").first
+            fd.scroll_into_view_if_needed()
+            canvas = fd.locator(".largerot-canvas")
+            with_diagram = canvas.evaluate("c => c.toDataURL()")
+            assert "bending moment M diagram" in fd.inner_text()
+            fd.get_by_role("button", name="off", exact=True).click()
+            page.wait_for_function("([c, old]) => c.toDataURL() !== old",
+                                   arg=[canvas.element_handle(), with_diagram], timeout=10_000)
+            assert "bending moment M diagram" not in fd.inner_text()
+            if os.environ.get("LARGEROT_SCREENSHOT"):
+                shot = pathlib.Path(os.environ["LARGEROT_SCREENSHOT"])
+                lv.screenshot(path=str(shot.with_name("live.png")))
+                fd.get_by_role("button", name="M", exact=True).click()
+                page.wait_for_timeout(300)
+                fd.screenshot(path=str(shot.with_name("forces.png")))
+                page.locator(".jp-OutputArea-output", has=page.locator(".widget-slider", has_text="height")) \
+                    .first.screenshot(path=str(shot.with_name("study.png")))
             assert not errors, errors
         finally:
             browser.close()
