@@ -44,6 +44,7 @@ class Factorization:
     def __init__(self, K: sp.csc_matrix, symmetric: bool = True) -> None:
         self.symmetric = symmetric
         self.n = K.shape[0]
+        self.K = K            # kept for eigenvalue checks (stability, critical points)
         opts = dict(SymmetricMode=True) if symmetric else {}
         thresh = 0.0 if symmetric else 1.0
         try:
@@ -62,6 +63,14 @@ class Factorization:
         with np.errstate(divide="ignore", invalid="ignore"):
             self.pivot_ratio = np.abs(pivots) / np.where(diag[order] > 0, diag[order], np.inf)
         self.n_negative = int(np.count_nonzero(pivots < 0.0))
+
+    @property
+    def diagonal_pivoting(self) -> bool:
+        """True when every pivot was taken on the diagonal (rows permuted like columns).
+
+        Only then is P·K·Pᵀ = L·D·Lᵀ and ``n_negative`` the inertia of a symmetric K.
+        """
+        return bool(np.array_equal(self.lu.perm_r, self.lu.perm_c))
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         """Solve K·x = b for one right-hand side (n,) or several (n, m)."""

@@ -25,7 +25,22 @@ PATH_STATUS = {
 class CriticalPoint:
     """A point where the tangent becomes singular along the path.
 
-    ``kind`` is ``"limit"`` or ``"bifurcation"``; ``index`` is the path point before it.
+    Attributes
+    ----------
+    kind : str
+        ``"limit"`` (the critical mode has a component along the reference load) or
+        ``"bifurcation"`` (it has none).
+    load_factor : float
+    index : int
+        The path point before it.
+    u : ndarray, shape (3·n_nodes,)
+        Displacements at the critical point.
+    mode : ndarray, shape (3·n_nodes,)
+        Critical mode (null vector of the tangent), largest translation 1.
+    located : bool
+        False when the search failed and the values are interpolated.
+    load_cosine : float
+        |mode·F| / (|mode|·|F|) over the free DOFs, the basis of ``kind``.
     """
 
     kind: str
@@ -33,6 +48,8 @@ class CriticalPoint:
     index: int
     u: np.ndarray = field(repr=False)
     mode: np.ndarray = field(repr=False)
+    located: bool = True
+    load_cosine: float = float("nan")
 
 
 class _Displacements:
@@ -92,11 +109,15 @@ class EquilibriumPath(_Displacements):
     critical_points : list of CriticalPoint
     counters : dict
         Residual evaluations, factorisations, step cuts.
+    arc_length : ndarray, shape (n_points,)
+        Cumulative length of the path's polygon in (u, λ), with rotations weighed by
+        the structure's size and λ by the linear displacement response per unit λ;
+        zero at point 0 (NaN when not recorded).
     """
 
     def __init__(self, structure: Structure, free: np.ndarray, load_factor, u_free,
                  iterations, residuals, n_negative, status: str, message: str,
-                 critical_points=None, counters=None, extra=None) -> None:
+                 critical_points=None, counters=None, extra=None, arc_length=None) -> None:
         self.structure = structure
         self.free = np.asarray(free)
         self.load_factor = np.asarray(load_factor, dtype=float)
@@ -108,6 +129,8 @@ class EquilibriumPath(_Displacements):
         self.critical_points = list(critical_points or [])
         self.counters = dict(counters or {})
         self.extra = dict(extra or {})
+        self.arc_length = (np.full(len(self.load_factor), np.nan) if arc_length is None
+                           else np.asarray(arc_length, dtype=float))
         self._u_full = None
 
     # -- basic access -----------------------------------------------------------

@@ -6,11 +6,12 @@ from typing import Callable
 
 from ..model import Structure
 from ..results import EquilibriumPath, Point
+from .arc_length import ArcLengthStepper
 from .displacement_control import DisplacementStepper
 from .load_control import LoadStepper
 from .stepper import PathStepper
 
-__all__ = ["by_load", "by_displacement", "trace", "StepControl"]
+__all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "StepControl"]
 
 #: Steps taken when neither a target, a stop condition nor ``max_steps`` ends the trace.
 DEFAULT_MAX_STEPS = 500
@@ -59,10 +60,63 @@ class by_displacement(StepControl):
                                    min_step=self.min_step, **options)
 
 
+@dataclass(frozen=True)
+class by_arc_length(StepControl):
+    """Arc-length control: u and λ advance together; passes limit points and snap-back.
+
+    Parameters
+    ----------
+    step : float, optional
+        First arc length; None (the default) chooses it from the linear response
+        to the reference load, so no knowledge of the arc-length norm is needed.
+        A negative value starts toward decreasing λ.
+    constraint : str
+        ``"cylindrical"`` (default; Crisfield 1981), ``"spherical"`` (Crisfield 1981,
+        load scaled by ``psi``), ``"normal-plane"`` (Riks 1979) or
+        ``"updated-normal-plane"`` (Ramm 1981).
+    psi : float, optional
+        Load-scaling parameter (0 for cylindrical; default 1 for the others), on a
+        scale where 1 weighs λ like the linear displacement response to it.
+    desired_iterations : int
+        Newton iterations per point that the step adaptation (Ramm 1981) aims at.
+    min_step, max_step : float, optional
+        Bounds on the arc length (defaults: first step/1024; the larger of 10 first
+        steps and a 5 % rms node translation of the structure's size).
+    branch_sign : int
+        +1 or −1: which way along the critical mode ``follow="secondary"`` goes.
+
+    See :mod:`largerot.solvers.arc_length` for the predictor and adaptation rules.
+
+    Examples
+    --------
+    >>> import largerot as lr
+    >>> from largerot.examples import toggle_frame
+    >>> sc = toggle_frame()
+    >>> path = lr.trace(sc.structure, lr.by_arc_length(), **sc.trace_options)
+    >>> [c.kind for c in path.critical_points]
+    ['limit', 'limit']
+    """
+
+    step: float | None = None
+    constraint: str = "cylindrical"
+    psi: float | None = None
+    desired_iterations: int = 4
+    min_step: float | None = None
+    max_step: float | None = None
+    branch_sign: int = 1
+
+    def stepper(self, structure, follow: str = "primary", **options) -> ArcLengthStepper:
+        return ArcLengthStepper(structure, self.step, constraint=self.constraint, psi=self.psi,
+                                desired_iterations=self.desired_iterations,
+                                min_step=self.min_step, max_step=self.max_step,
+                                follow=follow, branch_sign=self.branch_sign, **options)
+
+
 def trace(structure: Structure, control: StepControl, *, target_load_factor: float | None = None,
           max_steps: int | None = None, stop: Callable[[Point], bool] | None = None,
           callback: Callable[[Point], None] | None = None, tol: float = 1e-8,
-          tol_u: float = 1e-6, max_iterations: int = 25) -> EquilibriumPath:
+          tol_u: float = 1e-6, max_iterations: int = 25,
+          follow: str = "primary") -> EquilibriumPath:
     """Trace the equilibrium path of a structure.
 
     Parameters
@@ -80,6 +134,9 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
         ``callback(point)`` on each new converged point (progress, live plots).
     tol, tol_u, max_iterations
         Newton's convergence criteria (see :mod:`largerot.solvers.newton`).
+    follow : str
+        ``"primary"`` stays on the path through bifurcations; ``"secondary"`` switches
+        onto the secondary branch at the first bifurcation (arc-length control only).
 
     Returns
     -------
@@ -94,8 +151,15 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
         max_steps = DEFAULT_MAX_STEPS
     if int(max_steps) < 0:
         raise ValueError(f"`max_steps` must be non-negative, got {max_steps!r}.")
+    if follow not in ("primary", "secondary"):
+        raise ValueError(f"`follow` must be 'primary' or 'secondary', got {follow!r}.")
+    extra = {}
+    if follow != "primary":
+        if not isinstance(control, by_arc_length):
+            raise ValueError(f"follow={follow!r} needs lr.by_arc_length(...) control, got {control!r}.")
+        extra["follow"] = follow
     st = control.stepper(structure, tol=tol, tol_u=tol_u, max_iterations=max_iterations,
-                         target_load_factor=target_load_factor)
+                         target_load_factor=target_load_factor, **extra)
     return run(st, max_steps=int(max_steps), stop=stop, callback=callback)
 
 

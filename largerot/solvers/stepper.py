@@ -16,9 +16,11 @@ from ..assembly import Assembly, dof_label
 from ..errors import ModelError
 from ..linalg import SingularTangent, factorize
 from ..model import Structure
-from ..results import PATH_STATUS, EquilibriumPath, Point
+from ..results import PATH_STATUS, CriticalPoint, EquilibriumPath, Point
+from .critical import locate
 from .newton import LoadConstraint, NewtonResult, newton
 from .problem import Problem
+from .stability import count_negative
 
 __all__ = ["PathStepper"]
 
@@ -86,7 +88,10 @@ class PathStepper:
         self._iterations: list[int] = []
         self._residuals: list[np.ndarray] = []
         self._n_negative: list[int] = []
+        self._arc: list[float] = []
         self._extra: dict[str, list] = {}
+        self.critical_points: list[CriticalPoint] = []
+        self.lam_scale = 1.0
         self._start()
 
     # -- start ------------------------------------------------------------------
@@ -100,6 +105,10 @@ class PathStepper:
         except SingularTangent as exc:
             raise self._mechanism_error(K, exc) from None
         self.n_factorizations += 1
+        if p.F.any():
+            # displacement per unit λ of the linear response: weighs λ against u in
+            # the arc-length metric (and in ``path.arc_length``)
+            self.lam_scale = p.norm(self._fact.solve(p.F)) or 1.0
         self._record(NewtonResult(True, self.u, 0.0, 0, np.array([]), "", self._fact))
 
     def _settle_constant_loads(self) -> None:
@@ -196,6 +205,33 @@ class PathStepper:
         self._record(res)
         self.n_steps += 1
         self._adapt(res)
+        if self._n_negative[-1] != self._n_negative[-2]:
+            self._critical_event()
+
+    def _critical_event(self) -> None:
+        """Locate the critical point between the last two points (an event)."""
+        i = len(self._points_lam) - 2
+        info = locate(self.problem, self.lam_scale, self._points_u[i], self._points_lam[i],
+                      self._points_u[i + 1], self._points_lam[i + 1], self._n_negative[i],
+                      self._n_negative[i + 1], self.tol, self.tol_u, self.max_iterations)
+        self.n_factorizations += info["n_factorizations"]
+        cp = CriticalPoint(info["kind"], info["lam"], i, self.assembly.expand(info["u"]),
+                           self.assembly.expand(_normalised_mode(info["mode"], self.assembly.free)),
+                           located=info["located"], load_cosine=info["load_cosine"])
+        self.critical_points.append(cp)
+        log.info("%s point at λ = %.9g after point %d", cp.kind, cp.load_factor, i)
+        self._on_critical(cp, info)
+
+    def _on_critical(self, cp: CriticalPoint, info: dict) -> None:
+        """Hook for subclasses (branch switching); nothing by default."""
+
+    def _unrecord(self) -> None:
+        """Drop the last recorded point (a branch switch replaces it)."""
+        for lst in (self._points_lam, self._points_u, self._iterations, self._residuals,
+                    self._n_negative, self._arc):
+            lst.pop()
+        for v in self._extra.values():
+            v.pop()
 
     def _adapt(self, res: NewtonResult) -> None:
         """After an easy point, let a cut step grow back toward its nominal size."""
@@ -207,7 +243,12 @@ class PathStepper:
         self._points_u.append(res.u.copy())
         self._iterations.append(int(res.iterations))
         self._residuals.append(np.asarray(res.residuals))
-        self._n_negative.append(res.factorization.n_negative)
+        self._n_negative.append(count_negative(res.factorization))
+        if self._arc:
+            du = self.problem.norm(res.u - self._points_u[-2])
+            self._arc.append(self._arc[-1] + float(np.hypot(du, self.lam_scale * (res.lam - self._points_lam[-2]))))
+        else:
+            self._arc.append(0.0)
         for k, v in self.problem.point_data(res.u).items():
             self._extra.setdefault(k, []).append(v)
 
@@ -237,8 +278,19 @@ class PathStepper:
         return EquilibriumPath(self.structure, self.assembly.free, self._points_lam,
                                np.array(self._points_u), self._iterations, self._residuals,
                                self._n_negative, self.path_status, self.message,
+                               critical_points=list(self.critical_points),
                                counters=counters,
-                               extra={k: np.array(v) for k, v in self._extra.items()})
+                               extra={k: np.array(v) for k, v in self._extra.items()},
+                               arc_length=np.array(self._arc))
+
+
+def _normalised_mode(phi: np.ndarray, free: np.ndarray) -> np.ndarray:
+    """Scale a mode (free DOFs) to a largest translation of 1, that entry positive."""
+    trans = free % 3 != 2
+    ref = phi[trans] if trans.any() else phi
+    k = int(np.argmax(np.abs(ref)))
+    big = ref[k]
+    return phi / big if big != 0.0 else phi
 
 
 def _null_dofs(K, exc: SingularTangent) -> np.ndarray:
