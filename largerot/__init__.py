@@ -7,7 +7,8 @@ from .errors import ModelError
 from .model import DOFS, Member, Structure
 from .results import CriticalPoint, EquilibriumPath, Point
 from .sections import Section
-from .solvers import by_displacement, by_load, trace
+from .solvers import by_arc_length, by_displacement, by_load, trace
+from .buckling import Buckling, buckling, imperfect
 from . import plotting
 
 
@@ -21,4 +22,5 @@ def __getattr__(name):
 __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "DOFS", "EquilibriumPath", "Point",
-           "CriticalPoint", "by_load", "by_displacement", "trace", "plotting", "widgets", "__version__"]
+           "CriticalPoint", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
+           "imperfect", "trace", "plotting", "widgets", "__version__"]
