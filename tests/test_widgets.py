@@ -312,3 +312,23 @@ def test_plot_path_draws_unstable_parts_differently():
     (xs, ys), (xu, yu) = plotting.path_segments(path.displacement(apex, "uy"), path.load_factor,
                                                 path.stable)
     assert np.isfinite(xu).sum() == 2 * (~(path.stable[1:] & path.stable[:-1])).sum()
+
+
+def test_critical_points_reach_the_plot_data_and_the_figure():
+    import matplotlib
+    matplotlib.use("Agg")
+    from largerot import plotting
+    s, apex = two_bar_truss()
+    path = lr.trace(s, lr.by_displacement(apex, "uy", -0.05), max_steps=20, tol=1e-12)
+    k = int(np.argmax(path.load_factor))
+    # a critical point as the library records it (here placed by hand at the peak)
+    path.critical_points = [lr.CriticalPoint("limit", float(path.load_factor[k]), k, path.u[k],
+                                             np.zeros_like(path.u[k]))]
+    cv = data.curve(path, apex, "uy")
+    assert cv["critical"] == [{"x": pytest.approx(path.displacement(apex, "uy")[k]),
+                               "y": pytest.approx(path.load_factor[k]), "kind": "limit", "index": k}]
+    ex = lr.widgets.explore(path, node=apex, dof="uy")
+    assert ex.canvas.critical[0]["kind"] == "limit"
+    ax = plotting.plot_path(path, apex, "uy")
+    labels = [t.get_text() for t in ax.texts]
+    assert labels == [f"limit\nλ = {path.load_factor[k]:.4g}"]
