@@ -148,7 +148,7 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     >>> _ = s.beam(a, b, lr.Section(E=1.0, A=1e4, I=1.0), segments=10)
     >>> s.fix(a); s.load(b, fy=-1.0)
     >>> res = lr.buckling(s, modes=1)
-    >>> round(res.load_factors[0] / (math.pi**2 / 4), 4)    # π²EI/(4L²)
+    >>> print(round(float(res.load_factors[0]) / (math.pi**2 / 4), 4))    # π²EI/(4L²)
     1.0
     """
     if isinstance(modes, bool) or not isinstance(modes, (int, np.integer)) or modes < 1:

@@ -22,8 +22,9 @@ structure's size and the lowest linear buckling factor; the first step then move
 λ by λ_c/``AUTO_STEPS`` on the linear path. No knowledge of the norm is needed.
 
 Step adaptation (Ramm 1981): Δl ← Δl·(I_d/I)^½ after a point that took I iterations,
-the factor kept within [``MIN_FACTOR``, ``MAX_FACTOR``], Δl within [min_step, max_step].
-A failed step is halved (down to ``min_step``).
+the factor kept within [``MIN_FACTOR``, ``MAX_FACTOR``], Δl within [min_step, max_step]
+(defaults: the first step/2¹⁰ and ``MAX_STEP_FACTOR`` first steps, re-based on the
+switch step after a branch switch). A failed step is halved (down to ``min_step``).
 
 Branch switching (``follow="secondary"``): at the first bifurcation the point past it
 is dropped, the located critical point becomes a path point, and the next step
@@ -42,7 +43,7 @@ from ..errors import ModelError
 from .constraints import LinearisedConstraint, Metric, PlaneConstraint, QuadraticConstraint
 from .stepper import MAX_HALVINGS, PathStepper
 
-__all__ = ["ArcLengthStepper", "CONSTRAINTS"]
+__all__ = ["ArcLengthStepper", "CONSTRAINTS", "check_options"]
 
 log = logging.getLogger(__name__)
 
@@ -56,11 +57,10 @@ GEOMETRIC_SHARE = 0.1
 RAMM_EXPONENT = 0.5
 #: Bounds on the change of Δl from one step to the next (avoid wild jumps).
 MIN_FACTOR, MAX_FACTOR = 0.25, 2.0
-#: Default largest step as a multiple of the first one...
-MAX_STEP_FACTOR = 10.0
-#: ... or, if larger, a root-mean-square node translation of this share of the
-#: structure's size (post-buckling paths are long in u while λ barely changes).
-MAX_STEP_SHARE = 0.05
+#: Default largest step as a multiple of the first one (after a branch switch, of
+#: the switch step: post-buckled paths are long in u while λ barely changes). Four
+#: keeps 20-60 points on a path through its critical points, enough to draw it.
+MAX_STEP_FACTOR = 4.0
 #: Branch switch: largest node translation along the mode, share of the size. Big
 #: enough to clear the bifurcation's ill-conditioning, small next to the branch.
 BRANCH_AMPLITUDE = 0.01
@@ -95,27 +95,10 @@ class ArcLengthStepper(PathStepper):
                  psi: float | None = None, desired_iterations: int = 4,
                  min_step: float | None = None, max_step: float | None = None,
                  follow: str = "primary", branch_sign: int = 1, **options) -> None:
-        if constraint not in CONSTRAINTS:
-            raise ValueError(f"`constraint` must be one of {', '.join(map(repr, CONSTRAINTS))}, "
-                             f"got {constraint!r}.")
-        if psi is None:
-            psi = 0.0 if constraint == "cylindrical" else 1.0
-        if not (np.isfinite(psi) and psi >= 0.0):
-            raise ValueError(f"`psi` must be a finite non-negative number, got {psi!r}.")
-        if constraint == "cylindrical" and psi != 0.0:
-            raise ValueError(f"The cylindrical constraint has psi = 0; got psi = {psi!r} "
-                             "(use constraint='spherical' for psi > 0).")
-        if isinstance(desired_iterations, bool) or int(desired_iterations) < 1:
-            raise ValueError(f"`desired_iterations` must be a positive integer, got {desired_iterations!r}.")
+        psi = check_options(step, constraint, psi, desired_iterations, min_step, max_step,
+                            branch_sign)
         if follow not in ("primary", "secondary"):
             raise ValueError(f"`follow` must be 'primary' or 'secondary', got {follow!r}.")
-        if branch_sign not in (1, -1):
-            raise ValueError(f"`branch_sign` must be +1 or -1, got {branch_sign!r}.")
-        if step is not None and not (np.isfinite(step) and step != 0.0):
-            raise ValueError(f"The arc-length step must be non-zero and finite, got {step!r}.")
-        for name, v in (("min_step", min_step), ("max_step", max_step)):
-            if v is not None and not (np.isfinite(v) and v > 0.0):
-                raise ValueError(f"`{name}` must be a positive number, got {v!r}.")
         super().__init__(structure, 1.0, **options)
         p = self.problem
         if not p.F.any():
@@ -127,11 +110,13 @@ class ArcLengthStepper(PathStepper):
         self.direction = 1.0 if step is None or step > 0 else -1.0
         dl0 = abs(float(step)) if step is not None else self._auto_step()
         self.h = self.h_nominal = dl0
-        self.min_step = min_step if min_step is not None else dl0 / 2**MAX_HALVINGS
-        size = MAX_STEP_SHARE * p.length_scale * np.sqrt(max(1.0, p.n / 3.0))
-        self.max_step = max_step if max_step is not None else max(MAX_STEP_FACTOR * dl0, size)
-        if self.min_step > self.max_step:
-            raise ValueError(f"`min_step` ({self.min_step!r}) exceeds `max_step` ({self.max_step!r}).")
+        # a bound the user gave wins over the default of the other one
+        self._user_max_step = max_step is not None
+        if min_step is None:
+            min_step = min(dl0 / 2**MAX_HALVINGS, max_step if max_step is not None else np.inf)
+        if max_step is None:
+            max_step = max(MAX_STEP_FACTOR * dl0, min_step)
+        self.min_step, self.max_step = float(min_step), float(max_step)
         self.h = min(max(self.h, self.min_step), self.max_step)
         self.switched = False
         self._branch_mode: np.ndarray | None = None
@@ -200,9 +185,12 @@ class ArcLengthStepper(PathStepper):
             self.switched = True
         super()._accept(res)
         if switching:
-            # the next steps start at the length of the switch step
-            self.h = min(max(self.metric.norm(self.u - self.u_prev, self.lam - self.lam_prev),
-                             self.min_step), self.max_step)
+            # the next steps start at the length of the switch step, and the bound
+            # on them is re-based on it (the secondary branch has its own scale)
+            h = self.metric.norm(self.u - self.u_prev, self.lam - self.lam_prev)
+            if not self._user_max_step:
+                self.max_step = max(self.max_step, MAX_STEP_FACTOR * h)
+            self.h = min(max(h, self.min_step), self.max_step)
 
     def _adapt(self, res) -> None:
         it = max(int(res.iterations), 1)
@@ -244,3 +232,34 @@ class ArcLengthStepper(PathStepper):
                    lam_prev=getattr(self, "lam_prev", 0.0),
                    u_prev=getattr(self, "u_prev", self.u).copy())
         return out
+
+
+def check_options(step, constraint, psi, desired_iterations, min_step, max_step,
+                  branch_sign) -> float:
+    """Validate the arc-length options; return ψ with its default filled in."""
+    if constraint not in CONSTRAINTS:
+        raise ValueError(f"`constraint` must be one of {', '.join(map(repr, CONSTRAINTS))}, "
+                         f"got {constraint!r}.")
+    if psi is None:
+        psi = 0.0 if constraint == "cylindrical" else 1.0
+    if isinstance(psi, bool) or not isinstance(psi, (int, float, np.integer, np.floating)) \
+            or not (np.isfinite(psi) and psi >= 0.0):
+        raise ValueError(f"`psi` must be a finite non-negative number, got {psi!r}.")
+    if constraint == "cylindrical" and psi != 0.0:
+        raise ValueError(f"The cylindrical constraint has psi = 0; got psi = {psi!r} "
+                         "(use constraint='spherical' for psi > 0).")
+    if (isinstance(desired_iterations, bool) or not isinstance(desired_iterations, (int, np.integer))
+            or desired_iterations < 1):
+        raise ValueError(f"`desired_iterations` must be a positive integer, got {desired_iterations!r}.")
+    if isinstance(branch_sign, bool) or branch_sign not in (1, -1):
+        raise ValueError(f"`branch_sign` must be +1 or -1, got {branch_sign!r}.")
+    if step is not None and (isinstance(step, bool) or not isinstance(step, (int, float, np.integer, np.floating))
+                             or not (np.isfinite(step) and step != 0.0)):
+        raise ValueError(f"The arc-length `step` must be a non-zero finite number or None, got {step!r}.")
+    for name, v in (("min_step", min_step), ("max_step", max_step)):
+        if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float, np.integer, np.floating))
+                              or not (np.isfinite(v) and v > 0.0)):
+            raise ValueError(f"`{name}` must be a positive number, got {v!r}.")
+    if min_step is not None and max_step is not None and min_step > max_step:
+        raise ValueError(f"`min_step` ({min_step!r}) exceeds `max_step` ({max_step!r}).")
+    return float(psi)

@@ -6,7 +6,7 @@ from typing import Callable
 
 from ..model import Structure
 from ..results import EquilibriumPath, Point
-from .arc_length import ArcLengthStepper
+from .arc_length import ArcLengthStepper, check_options
 from .displacement_control import DisplacementStepper
 from .load_control import LoadStepper
 from .stepper import PathStepper
@@ -80,8 +80,8 @@ class by_arc_length(StepControl):
     desired_iterations : int
         Newton iterations per point that the step adaptation (Ramm 1981) aims at.
     min_step, max_step : float, optional
-        Bounds on the arc length (defaults: first step/1024; the larger of 10 first
-        steps and a 5 % rms node translation of the structure's size).
+        Bounds on the arc length (defaults: first step/1024 and 4 first steps; after a
+        branch switch the bound is re-based on the switch step).
     branch_sign : int
         +1 or −1: which way along the critical mode ``follow="secondary"`` goes.
 
@@ -104,6 +104,10 @@ class by_arc_length(StepControl):
     min_step: float | None = None
     max_step: float | None = None
     branch_sign: int = 1
+
+    def __post_init__(self) -> None:
+        check_options(self.step, self.constraint, self.psi, self.desired_iterations,
+                      self.min_step, self.max_step, self.branch_sign)
 
     def stepper(self, structure, follow: str = "primary", **options) -> ArcLengthStepper:
         return ArcLengthStepper(structure, self.step, constraint=self.constraint, psi=self.psi,

@@ -77,8 +77,12 @@ def locate(problem, lam_scale: float, u_a, lam_a: float, u_b, lam_b: float, n_a:
         if sigma in cache:
             return cache[sigma]
         c = PlaneConstraint(metric, u_a, lam_a, t_u, t_lam, sigma * T2)
+        # residual test only (tol_u = ∞): next to a bifurcation the tangent is nearly
+        # singular along the critical mode, which the secant plane does not fix, so
+        # the next correction K⁻¹r blows round-off in r up along the mode (it is
+        # ~|r·φ|/μ) and the displacement test could never pass there
         res = newton(problem, u_a + sigma * t_u, lam_a + sigma * t_lam, c, u_a,
-                     tol, tol_u, max_iterations)
+                     tol, np.inf, max_iterations)
         count[0] += res.iterations + 1
         if not res.converged:
             raise _NoPoint(res.message)

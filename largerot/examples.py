@@ -1,0 +1,235 @@
+"""Small built-in scenarios for examples, tests and notebooks (invented structures).
+
+Each function returns a :class:`Scenario`: the structure, the options that trace its
+interesting part with ``lr.trace(sc.structure, control, **sc.trace_options)``, a
+description, and the ids of the nodes worth looking at (``sc.apex``, ``sc.tip``...).
+The numbers are our own; they are chosen to show one kind of path each:
+
+* :func:`toggle_frame` — a shallow two-bar frame pulled through a soft hanger:
+  snap-through in load and snap-back in the load point's displacement;
+* :func:`shallow_arch` — a shallow circular arch under a central point load:
+  symmetric snap-through at a limit point;
+* :func:`deep_arch` — a higher pinned arch: an asymmetric bifurcation comes before
+  the symmetric limit point;
+* :func:`column` — a cantilever or pinned-pinned column loaded axially: Euler
+  buckling, a bifurcation on the perfect path, and the post-buckled elastica.
+
+>>> from largerot.examples import shallow_arch
+>>> sc = shallow_arch()
+>>> sc.curve
+(16, 'uy')
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .model import Structure
+from .sections import Section
+
+__all__ = ["Scenario", "toggle_frame", "shallow_arch", "deep_arch", "column"]
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A ready-made structure with what is needed to trace and read it.
+
+    Attributes
+    ----------
+    structure : Structure
+    trace_options : dict
+        Keyword arguments for :func:`largerot.trace` that end the trace where the
+        interesting part of the path is over (``stop``, ``max_steps``...).
+    description : str
+    nodes : dict
+        Named node ids; each is also an attribute (``sc.apex``).
+    curve : tuple
+        ``(node, dof)`` whose displacement is worth plotting against λ.
+    parameters : dict
+        The numbers the scenario was built from (lengths, stiffnesses, loads).
+    """
+
+    structure: Structure
+    trace_options: dict
+    description: str
+    nodes: dict = field(default_factory=dict)
+    curve: tuple = ()
+    parameters: dict = field(default_factory=dict)
+
+    def __getattr__(self, name):
+        nodes = self.__dict__.get("nodes", {})
+        if name in nodes:
+            return nodes[name]
+        raise AttributeError(f"Scenario has no attribute or node named {name!r}.")
+
+
+def _positive(name: str, value) -> float:
+    v = float(value)
+    if not (math.isfinite(v) and v > 0.0):
+        raise ValueError(f"`{name}` must be a positive number, got {value!r}.")
+    return v
+
+
+def _segments(value, even: bool = False) -> int:
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
+        raise ValueError(f"`segments` must be a positive integer, got {value!r}.")
+    if even and value % 2:
+        raise ValueError(f"`segments` must be even (a node at mid-span), got {value!r}.")
+    return int(value)
+
+
+def toggle_frame(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4,
+                 spring: float = 50.0, hanger: float = 100.0, hanger_length: float = 1.0) -> Scenario:
+    """Shallow two-bar toggle frame with a grounded spring at its apex, pulled down
+    through a soft hanger.
+
+    Two pin-ended bars (axial stiffness ``EA``) span ``2·half_span`` with the apex at
+    ``rise``; a vertical spring ``spring`` ties the apex to the ground, and the load
+    (1 downward, so λ is the load) hangs from the apex on a bar of stiffness
+    ``hanger`` (= its EA/length), whose lower end slides on a vertical guide. The
+    apex snaps through (two limit points in load); where the frame softens faster
+    than the hanger is stiff the load point moves back up: snap-back.
+
+    Exact curve (statics): with the apex down by v, P = P_truss(v) + spring·v
+    (:func:`largerot.closed_form.two_bar_truss_load`) and the load point is down by
+    w = v + P/hanger.
+    """
+    a, h, EA = _positive("half_span", half_span), _positive("rise", rise), _positive("EA", EA)
+    k_g, k_s = float(spring), _positive("hanger", hanger)
+    Lh = _positive("hanger_length", hanger_length)
+    if not (math.isfinite(k_g) and k_g >= 0.0):
+        raise ValueError(f"`spring` must be a non-negative number, got {spring!r}.")
+    s = Structure()
+    left, apex, right = s.node(-a, 0.0), s.node(0.0, h), s.node(a, 0.0)
+    load = s.node(0.0, h - Lh)
+    sec = Section(E=EA, A=1.0)
+    s.bar(left, apex, sec)
+    s.bar(apex, right, sec)
+    s.bar(apex, load, Section(E=k_s * Lh, A=1.0))
+    s.fix(left, "ux", "uy")
+    s.fix(right, "ux", "uy")
+    s.fix(load, "ux")
+    if k_g > 0.0:
+        s.spring(apex, "uy", k_g)
+    s.load(load, fy=-1.0)
+    # the frame is inverted (apex as far below the supports as it started above) and
+    # stiffening again: the whole story of the path has been told
+    options = {"stop": lambda p: -p.displacement(apex, "uy") > 2.4 * h, "max_steps": 400}
+    return Scenario(s, options,
+                    "Shallow two-bar toggle frame with a grounded spring at the apex, loaded "
+                    "through a soft hanger: snap-through in load, snap-back in displacement.",
+                    nodes={"apex": apex, "load": load, "left": left, "right": right},
+                    curve=(load, "uy"),
+                    parameters={"half_span": a, "rise": h, "EA": EA, "spring": k_g,
+                                "hanger": k_s, "hanger_length": Lh})
+
+
+def _arch(rise, span, segments, support, width, depth, E, load, stop_share, kind):
+    rise, span = _positive("rise", rise), _positive("span", span)
+    n = _segments(segments, even=True)
+    if support not in ("pinned", "clamped"):
+        raise ValueError(f"`support` must be 'pinned' or 'clamped', got {support!r}.")
+    if rise >= 0.5 * span:
+        raise ValueError(f"`rise` must be less than half the span ({0.5 * span!r}), got {rise!r}.")
+    sec = Section.rectangle(E=_positive("E", E), width=_positive("width", width),
+                            depth=_positive("depth", depth))
+    P = _positive("load", load)
+    R = (0.25 * span**2 + rise**2) / (2.0 * rise)
+    half = math.asin(0.5 * span / R)
+    s = Structure()
+    ids = []
+    for k in range(n + 1):
+        t = -half + 2.0 * half * k / n
+        ids.append(s.node(R * math.sin(t) + 0.5 * span, R * math.cos(t) - (R - rise)))
+    for k in range(n):
+        s.beam(ids[k], ids[k + 1], sec)
+    dofs = ("ux", "uy") if support == "pinned" else ("ux", "uy", "rz")
+    s.fix(ids[0], *dofs)
+    s.fix(ids[-1], *dofs)
+    crown = ids[n // 2]
+    s.load(crown, fy=-P)
+    r = math.sqrt(sec.I / sec.A)
+    options = {"stop": lambda p: -p.displacement(crown, "uy") > stop_share * rise,
+               "max_steps": 400}
+    what = ("symmetric snap-through at a limit point" if kind == "shallow"
+            else "an asymmetric bifurcation before the symmetric limit point")
+    desc = (f"{support.capitalize()} circular arch, span {span:g}, rise {rise:g} "
+            f"(rise/span {rise / span:.3g}, rise/radius of gyration {rise / r:.3g}), "
+            f"{width:g} × {depth:g} rectangular section, central point load: {what}.")
+    return Scenario(s, options, desc,
+                    nodes={"crown": crown, "left": ids[0], "right": ids[-1],
+                           "quarter": ids[n // 4], "three_quarter": ids[3 * n // 4]},
+                    curve=(crown, "uy"),
+                    parameters={"rise": rise, "span": span, "segments": n, "support": support,
+                                "EI": sec.EI, "EA": sec.EA, "load": P, "radius": R,
+                                "node_ids": tuple(ids)})
+
+
+def shallow_arch(rise: float = 0.2, span: float = 10.0, segments: int = 32,
+                 support: str = "pinned", width: float = 0.1, depth: float = 0.2,
+                 E: float = 210e9, load: float = 1.0e3) -> Scenario:
+    """A shallow circular steel rib under a central point load (SI units).
+
+    Span 10 m and rise 0.2 m by default, solid 100 × 200 mm steel section, ends
+    pinned (or ``support="clamped"``); reference load 1 kN downward at the crown, so
+    λ is the load in kN. With rise/(radius of gyration) ≈ 3.5 the crown snaps
+    through symmetrically at a limit point; the trace ends once the crown is
+    2.2 rises down (the rib inverted).
+    """
+    return _arch(rise, span, segments, support, width, depth, E, load, 2.2, "shallow")
+
+
+def deep_arch(rise: float = 0.5, span: float = 10.0, segments: int = 32,
+              width: float = 0.1, depth: float = 0.2, E: float = 210e9,
+              load: float = 1.0e3) -> Scenario:
+    """A higher pinned circular steel rib: asymmetric bifurcation before the limit point.
+
+    As :func:`shallow_arch` but with rise 0.5 m (rise/radius of gyration ≈ 8.7):
+    the thrust reaches the antisymmetric buckling value 4π²EI/L² while the load is
+    still rising along the symmetric path, so the rib would buckle sideways into an
+    S shape first. The trace ends once the crown is 1.2 rises down.
+    """
+    return _arch(rise, span, segments, "pinned", width, depth, E, load, 1.2, "deep")
+
+
+def column(kind: str = "cantilever", length: float = 3.0, segments: int = 10,
+           diameter: float = 0.06, wall: float = 0.004, E: float = 210e9) -> Scenario:
+    """A straight steel tube column loaded axially at its top (SI units).
+
+    ``kind="cantilever"``: clamped base, free top; ``"pinned"``: pinned base, top on
+    a vertical roller. The reference load is the Euler load of the column,
+    π²EI/(4L²) or π²EI/L², downward at the top, so λ = P/P_E (Euler; Timoshenko &
+    Gere 1961). The perfect column bifurcates at λ ≈ 1; the trace ends at λ = 1.8 or
+    a tip rotation of 2 rad, so that with ``follow="secondary"`` it runs well up the
+    post-buckled branch.
+    """
+    if kind not in ("cantilever", "pinned"):
+        raise ValueError(f"`kind` must be 'cantilever' or 'pinned', got {kind!r}.")
+    L = _positive("length", length)
+    n = _segments(segments)
+    sec = Section.tube(E=_positive("E", E), diameter=_positive("diameter", diameter),
+                       wall=_positive("wall", wall))
+    s = Structure()
+    base, top = s.node(0.0, 0.0), s.node(0.0, L)
+    m = s.beam(base, top, sec, segments=n)
+    if kind == "cantilever":
+        s.fix(base)
+        P_E = math.pi**2 * sec.EI / (4.0 * L**2)
+    else:
+        s.fix(base, "ux", "uy")
+        s.fix(top, "ux")
+        P_E = math.pi**2 * sec.EI / L**2
+    s.load(top, fy=-P_E)
+    mid = m.nodes[len(m.nodes) // 2]
+    watch = top if kind == "cantilever" else base
+    options = {"stop": lambda p: p.load_factor > 1.8 or abs(p.displacement(watch, "rz")) > 2.0,
+               "max_steps": 300}
+    desc = (f"{'Cantilever' if kind == 'cantilever' else 'Pinned-pinned'} steel tube column, "
+            f"length {L:g}, tube {diameter:g} × {wall:g}, axial reference load = Euler load "
+            f"{P_E:.4g}: a bifurcation at λ ≈ 1.")
+    return Scenario(s, options, desc, nodes={"base": base, "tip": top, "top": top, "mid": mid},
+                    curve=(top, "ux") if kind == "cantilever" else (mid, "ux"),
+                    parameters={"kind": kind, "length": L, "segments": n, "EI": sec.EI,
+                                "EA": sec.EA, "euler_load": P_E, "node_ids": m.nodes})
