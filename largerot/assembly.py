@@ -13,11 +13,12 @@ from typing import Callable
 import numpy as np
 import scipy.sparse as sp
 
+from . import loads
 from .elements import bar, beam
 from .errors import ModelError
 from .model import DOFS, Structure
 
-__all__ = ["Assembly", "ElementGroup", "dof_label"]
+__all__ = ["Assembly", "ElementGroup", "LoadGroup", "dof_label"]
 
 
 def dof_label(g: int) -> str:
@@ -38,6 +39,20 @@ class ElementGroup:
     dofmap: np.ndarray                  # shape (n_elements, n_dof), global DOF indices
     kernel: Callable
     positions: np.ndarray | None = None  # shape (n_elements·n_dof²,), into CSC data
+
+
+@dataclass
+class LoadGroup:
+    """Follower loads of one kind: ``kernel(u_e) -> (f, dfdu)`` on a DOF map.
+
+    ``constant`` loads are held at full value; the others scale with λ.
+    """
+
+    kind: str
+    dofmap: np.ndarray
+    kernel: Callable
+    constant: bool
+    positions: np.ndarray | None = None
 
 
 class Assembly:
@@ -88,22 +103,44 @@ class Assembly:
 
             def beam_kernel(ue, tangent, dX=dX, L0=L0, EA=EA, EI=EI):
                 res = beam.response(dX, L0, ue, EA, EI, tangent)
-                return res.f, res.K, {"q": res.q}
+                return res.f, res.K, {"q": res.q, "l": res.l}
 
             self.groups.append(ElementGroup("beam", self._dofmap(nodes, beam.NODE_DOFS), beam_kernel))
         nodes, sec = s.element_table("bar")
         self.bar_nodes = nodes
+        self.cable = s.tension_only()
         if len(nodes):
-            X1, dX, L0 = self._geometry(nodes)
+            X1, dX, L = self._geometry(nodes)
             EA, _ = self._section_arrays(sec)
-            self.bar_geometry = (X1, dX, L0)
+            self.bar_geometry = (X1, dX, L)
+            L0 = s.element_lengths("bar")        # unstretched: differs for cables
+            slack_ok = self.cable if self.cable.any() else None
 
-            def bar_kernel(ue, tangent, dX=dX, L0=L0, EA=EA):
-                res = bar.response(dX, L0, ue, EA, None, tangent)
-                return res.f, res.K, {"N": res.N}
+            def bar_kernel(ue, tangent, dX=dX, L0=L0, EA=EA, slack_ok=slack_ok):
+                res = bar.response(dX, L0, ue, EA, slack_ok, tangent)
+                return res.f, res.K, {"N": res.N, "l": res.l}
 
             self.groups.append(ElementGroup("bar", self._dofmap(nodes, bar.NODE_DOFS), bar_kernel))
         self.spring_dofs, self.spring_k = s.spring_table()
+        self._build_load_groups()
+
+    def _build_load_groups(self) -> None:
+        s = self.structure
+        self.load_groups: list[LoadGroup] = []
+        for constant in (False, True):
+            nodes, F0 = s.follower_table(constant)
+            if len(nodes):
+                dm = 3 * nodes[:, None] + np.arange(3)
+                self.load_groups.append(LoadGroup(
+                    "node", dm, lambda ue, F0=F0: loads.node_follower(F0, ue), constant))
+            kinds, elems, pt = s.pressure_table(constant)
+            if len(elems):
+                tables = {"beam": self.beam_nodes, "bar": self.bar_nodes}
+                pairs = np.array([tables[k][e] for k, e in zip(kinds, elems)]).reshape(-1, 2)
+                dX = self.xy[pairs[:, 1]] - self.xy[pairs[:, 0]]
+                dm = self._dofmap(pairs, (0, 1))
+                self.load_groups.append(LoadGroup(
+                    "line", dm, lambda ue, dX=dX, pt=pt: loads.line_follower(dX, pt, ue), constant))
 
     def _classify_dofs(self) -> None:
         n = self.structure.n_nodes
@@ -124,6 +161,12 @@ class Assembly:
         self.free_index[self.free] = np.arange(self.n_free)
         self.F_ref = self.structure.load_vector(constant=False)
         self.F_const = self.structure.load_vector(constant=True)
+        for lg in self.load_groups:
+            if lg.kind == "node":
+                bad = np.intersect1d(lg.dofmap[:, 2], self.dropped)
+                if len(bad):
+                    raise ModelError(f"Node {int(bad[0]) // 3} carries a follower force, which turns "
+                                     "with the node's rotation, but no beam ends there to give it one.")
         for F in (self.F_ref, self.F_const):
             bad = self.dropped[F[self.dropped] != 0.0]
             if len(bad):
@@ -136,8 +179,8 @@ class Assembly:
 
     def _build_pattern(self) -> None:
         nf = self.n_free
-        keys, owners = [], []
-        for g in self.groups:
+        keys = []
+        for g in [*self.groups, *self.load_groups]:
             fi = self.free_index[g.dofmap]
             rows = np.repeat(fi, fi.shape[1], axis=1).ravel()
             cols = np.tile(fi, (1, fi.shape[1])).ravel()
@@ -155,7 +198,7 @@ class Assembly:
         cols = uniq // nf
         self.indptr = np.searchsorted(cols, np.arange(nf + 1)).astype(np.int32)
         start = 0
-        for g in self.groups:
+        for g in [*self.groups, *self.load_groups]:
             size = g.dofmap.shape[0] * g.dofmap.shape[1] ** 2
             g.positions = pos[start:start + size]
             start += size
@@ -165,8 +208,32 @@ class Assembly:
     def element_displacements(self, u: np.ndarray, group: ElementGroup) -> np.ndarray:
         return u[group.dofmap]
 
-    def evaluate(self, u: np.ndarray, tangent: bool = True):
+    @property
+    def has_followers(self) -> bool:
+        """True when loads depend on the deformation (non-symmetric tangent)."""
+        return bool(self.load_groups)
+
+    def external(self, u: np.ndarray):
+        """Reference and constant loads at the full displacement vector ``u``.
+
+        Returns
+        -------
+        F_ref, F_const : ndarray, shape (n_dof,)
+            Dead parts plus the follower loads at ``u``.
+        """
+        F_ref, F_const = self.F_ref.copy(), self.F_const.copy()
+        for lg in self.load_groups:
+            fe, _ = lg.kernel(u[lg.dofmap])
+            target = F_const if lg.constant else F_ref
+            target += np.bincount(lg.dofmap.ravel(), weights=fe.ravel(), minlength=self.n_dof)
+        return F_ref, F_const
+
+    def evaluate(self, u: np.ndarray, tangent: bool = True, lam: float | None = None,
+                 const_factor: float = 1.0):
         """Internal forces and tangent at the full displacement vector ``u``.
+
+        With follower loads and a load factor ``lam``, the tangent includes their
+        load stiffness: K = ∂f_int/∂u − λ·∂F_ref/∂u − const_factor·∂F_const/∂u.
 
         Returns
         -------
@@ -190,6 +257,12 @@ class Assembly:
             if tangent:
                 data += np.bincount(g.positions, weights=Ke.ravel(), minlength=self.nnz + 1)
             extra[g.kind] = ex
+        if tangent and lam is not None:
+            for lg in self.load_groups:
+                _, dfe = lg.kernel(u[lg.dofmap])
+                w = const_factor if lg.constant else lam
+                if w:
+                    data -= np.bincount(lg.positions, weights=w * dfe.ravel(), minlength=self.nnz + 1)
         if len(self.spring_dofs):
             fs = self.spring_k * u[self.spring_dofs]
             f += np.bincount(self.spring_dofs, weights=fs, minlength=self.n_dof)
@@ -200,6 +273,38 @@ class Assembly:
         if tangent:
             K = sp.csc_matrix((data[:-1], self.indices, self.indptr), shape=(self.n_free, self.n_free))
         return f, K, np.sqrt(scale2), extra
+
+    def element_forces(self, u: np.ndarray) -> dict:
+        """End forces of every element at the full displacement vector ``u``.
+
+        Returns
+        -------
+        dict
+            ``"beam"``: ``"N"`` axial force (tension positive), ``"V"`` shear
+            (dM/ds), shapes (n_beam,), and ``"M"`` bending moment at both ends,
+            shape (n_beam, 2), positive when it stretches the right-hand side of
+            the element (seen from end 1 toward end 2);
+            ``"bar"``: ``"N"``, shape (n_bar,) (cable segments included, zero when
+            slack) and ``"slack"``, bool.
+        """
+        out = {"beam": {"N": np.zeros(0), "V": np.zeros(0), "M": np.zeros((0, 2))},
+               "bar": {"N": np.zeros(0), "slack": np.zeros(0, bool)}}
+        for g in self.groups:
+            _, _, ex = g.kernel(u[g.dofmap], False)
+            if g.kind == "beam":
+                N, M1, M2 = ex["q"].T
+                out["beam"] = {"N": N, "V": (M1 + M2) / ex["l"], "M": np.stack([-M1, M2], axis=1)}
+            elif g.kind == "bar":
+                out["bar"] = {"N": ex["N"], "slack": self.cable & (ex["N"] == 0.0)}
+        return out
+
+    def point_data(self, u: np.ndarray) -> dict:
+        """Per-point data kept along a path: which cable segments are slack."""
+        if not self.cable.any():
+            return {}
+        g = next(g for g in self.groups if g.kind == "bar")
+        _, _, ex = g.kernel(u[g.dofmap], False)
+        return {"slack": ex["N"][self.cable] == 0.0}
 
     def element_arrays(self, u: np.ndarray) -> dict:
         """Unassembled element forces and tangents per group (for tests)."""

@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import ModelError
+from .geometry import hanging_chain
 from .sections import Section
 
 __all__ = ["Structure", "Member", "DOFS", "dof_index"]
@@ -37,11 +38,12 @@ class Member:
     id : int
         Member number, in order of creation.
     kind : str
-        ``"beam"`` or ``"bar"``.
+        ``"beam"``, ``"bar"`` or ``"cable"``.
     nodes : tuple of int
         Node ids from end to end, including the intermediate nodes of the mesh.
     elements : numpy.ndarray
-        Indices of its elements among the elements of its kind.
+        Indices of its elements among the elements of its kind (a cable's segments
+        are tension-only bar elements, counted among the bars).
     section : Section
     """
 
@@ -92,6 +94,14 @@ class Structure:
         self._fixed: set[tuple[int, int]] = set()
         self._loads: dict[tuple[int, int, bool], float] = {}
         self._springs: dict[tuple[int, int], float] = {}
+        # per bar element: unstretched length (NaN: the undeformed chord) and
+        # whether it is a tension-only cable segment
+        self._bar_L0: list[float] = []
+        self._bar_cable: list[bool] = []
+        self._line_loads: list[tuple[int, float, float, float, float, bool]] = []
+        self._followers: dict[tuple[int, bool], tuple[float, float]] = {}
+        self._gravity: tuple[float, float, float, bool] | None = None
+        self._member_ends: dict[tuple[str, int, int], int] = {}   # (table, a, b) -> member
         self._version = 0
 
     # -- building ------------------------------------------------------------
@@ -130,7 +140,8 @@ class Structure:
         self._sections.append(section)
         return len(self._sections) - 1
 
-    def _member(self, kind: str, a, b, section: Section, segments) -> Member:
+    def _member(self, kind: str, a, b, section: Section, segments, *,
+                points=None, L0=None) -> Member:
         mid = len(self.members)
         a = self._check_node(a, f"Member {mid}")
         b = self._check_node(b, f"Member {mid}")
@@ -142,20 +153,26 @@ class Structure:
         length = float(np.hypot(*(pb - pa)))
         if length == 0.0:
             raise ModelError(f"Member {mid} (nodes {a}→{b}) has zero length.")
-        for m in self.members:
-            if m.kind == kind and set(m.ends) == {a, b}:
-                raise ModelError(f"Member {mid} (nodes {a}→{b}) duplicates member {m.id}.")
+        table = "bar" if kind == "cable" else kind
+        key = (table, min(a, b), max(a, b))
+        if key in self._member_ends:
+            raise ModelError(f"Member {mid} (nodes {a}→{b}) duplicates member {self._member_ends[key]}.")
         if kind == "beam" and section.I <= 0.0:
             raise ModelError(f"Member {mid} (nodes {a}→{b}) is a beam but its section has I = {section.I!r}; give I > 0.")
         sid = self._section_id(section)
-        chain = [a]
-        for k in range(1, segments):
-            t = k / segments
-            chain.append(self.node(*(pa + t * (pb - pa))))
-        chain.append(b)
-        elems = self._elements[kind]
+        if points is None:
+            t = np.arange(1, segments)[:, None] / segments
+            points = pa + t * (pb - pa)
+        first_new = len(self._xy)
+        self._xy.extend((float(x), float(y)) for x, y in points)
+        chain = [a, *range(first_new, len(self._xy)), b]
+        elems = self._elements[table]
         first = len(elems)
         elems.extend((chain[k], chain[k + 1], sid) for k in range(segments))
+        if table == "bar":
+            self._bar_L0.extend([np.nan] * segments if L0 is None else [float(L0)] * segments)
+            self._bar_cable.extend([kind == "cable"] * segments)
+        self._member_ends[key] = mid
         member = Member(mid, kind, tuple(chain), np.arange(first, first + segments), section)
         self.members.append(member)
         self._changed()
@@ -173,6 +190,107 @@ class Structure:
         """Add an axial-only (pin-ended) corotational bar from ``a`` to ``b``."""
         return self._member("bar", a, b, section, segments)
 
+    def cable(self, a: int, b: int, section: Section, segments: int | None = None, *,
+              unstretched_length: float | None = None, pretension: float | None = None) -> Member:
+        """Add a tension-only cable from ``a`` to ``b``, meshed into ``segments`` elements.
+
+        Each segment is a corotational bar that carries N = EA·(l − l0)/l0 when
+        stretched and no force when slack (l ≤ l0).
+
+        Parameters
+        ----------
+        segments : int, optional
+            Default: 10 for a cable that sags or has weight (section density > 0),
+            else 1 — a weightless straight cable is exactly one two-force member,
+            and split into several it would have no shape of its own once slack.
+        unstretched_length : float, optional
+            Length of the cable without force. Longer than the chord, the cable
+            sags: its intermediate nodes are placed on the hanging chain of that
+            length (:func:`largerot.geometry.hanging_chain`, hanging along gravity,
+            or −y before :meth:`gravity` is called), slack, and the first step of a
+            trace finds its equilibrium under the loads. Shorter than the chord, it
+            starts stretched (pretensioned). Default: the chord.
+        pretension : float, optional
+            Tension in the straight cable at the start instead of a length:
+            l0 = chord·EA/(EA + T).
+        """
+        mid = len(self.members)
+        if segments is None:
+            sags = unstretched_length is not None and pretension is None
+            segments = 10 if sags or section.density > 0.0 else 1
+        if unstretched_length is not None and pretension is not None:
+            raise ModelError(f"Member {mid}: give `unstretched_length` or `pretension`, not both.")
+        a = self._check_node(a, f"Member {mid}")
+        b = self._check_node(b, f"Member {mid}")
+        chord = float(np.hypot(*(np.subtract(self._xy[b], self._xy[a]))))
+        points, L = None, chord
+        if pretension is not None:
+            T = _finite(f"Member {mid} pretension", pretension)
+            if T < 0.0:
+                raise ModelError(f"Member {mid}: a cable's pretension must be non-negative, got {pretension!r}.")
+            L = chord * section.EA / (section.EA + T)
+        elif unstretched_length is not None:
+            L = _finite(f"Member {mid} unstretched_length", unstretched_length)
+            if L <= 0.0:
+                raise ModelError(f"Member {mid}: `unstretched_length` must be positive, got {unstretched_length!r}.")
+            if L > chord > 0.0 and isinstance(segments, (int, np.integer)) and segments > 1:
+                down = self._gravity[1:3] if self._gravity else (0.0, -1.0)
+                try:
+                    points = hanging_chain(self._xy[a], self._xy[b], L, int(segments), down)
+                except ModelError as exc:
+                    raise ModelError(f"Member {mid} (nodes {a}→{b}): {exc}") from None
+        seg = segments if isinstance(segments, (int, np.integer)) and segments >= 1 else 1
+        return self._member("cable", a, b, section, segments, points=points, L0=L / seg)
+
+    def gravity(self, g: float = 9.81, direction=(0.0, -1.0), constant: bool = True) -> None:
+        """Self-weight of every member whose section has a density.
+
+        The weight ρ·A·g per unit unstretched length goes to the element ends as
+        forces of half the element's weight (the end moments of the consistent load
+        of a beam element, ±q⊥l²/12, cancel between neighbouring equal elements and
+        are left out; the error vanishes with the mesh, O(h²)). Held at full value
+        along the path unless ``constant=False``, when it is scaled by the load factor.
+        Calling it again replaces the earlier gravity.
+        """
+        g = _finite("Gravity g", g)
+        d = np.array([_finite("Gravity direction x", direction[0]),
+                      _finite("Gravity direction y", direction[1])])
+        n = float(np.hypot(*d))
+        if g < 0.0 or n == 0.0:
+            raise ModelError(f"Gravity needs g ≥ 0 and a non-zero direction, got g={g!r}, direction={tuple(direction)!r}.")
+        self._gravity = (g, d[0] / n, d[1] / n, bool(constant))
+        self._changed()
+
+    def line_load(self, member, qx: float = 0.0, qy: float = 0.0, *, normal: float = 0.0,
+                  tangential: float = 0.0, constant: bool = False) -> None:
+        """A uniform load along a member.
+
+        Parameters
+        ----------
+        member : Member or int
+        qx, qy : float
+            Dead load per unit undeformed length in the global directions.
+        normal, tangential : float
+            Follower load per unit *deformed* length, normal to each deformed element
+            (positive to the left of the member's direction a→b, i.e. the chord
+            turned by +90°) and along it (toward b): a pressure. These turn with the
+            structure and give a non-symmetric load stiffness.
+        constant : bool
+            Held at full value instead of scaled by the load factor.
+        """
+        m = self._get_member(member)
+        vals = [_finite(f"Line load {k} on member {m.id}", v)
+                for k, v in (("qx", qx), ("qy", qy), ("normal", normal), ("tangential", tangential))]
+        self._line_loads.append((m.id, *vals, bool(constant)))
+        self._changed()
+
+    def _get_member(self, member) -> Member:
+        mid = member.id if isinstance(member, Member) else member
+        if isinstance(mid, (bool, np.bool_)) or not isinstance(mid, (int, np.integer)) \
+                or not 0 <= mid < len(self.members):
+            raise ModelError(f"Unknown member {member!r} (the structure has {len(self.members)} members).")
+        return self.members[int(mid)]
+
     def fix(self, node: int, *dofs: str) -> None:
         """Restrain DOFs of a node; all three when none are named.
 
@@ -184,14 +302,24 @@ class Structure:
         self._changed()
 
     def load(self, node: int, fx: float = 0.0, fy: float = 0.0, mz: float = 0.0,
-             constant: bool = False) -> None:
+             constant: bool = False, follower: bool = False) -> None:
         """Add a nodal load.
 
         The reference load is scaled by the load factor; a ``constant`` load is held
         at full value along the whole path (e.g. a dead weight present from the start).
+        A ``follower`` force (fx, fy) turns with the node's rotation (a force carried
+        by a bracket that rotates with the member); it needs a beam at the node.
         Loads on the same node and DOF add up.
         """
         node = self._check_node(node, "load")
+        if follower:
+            if _finite(f"Load mz on node {node}", mz) != 0.0:
+                raise ModelError(f"Load on node {node}: a follower load is a force; give its moment separately.")
+            v = (_finite(f"Load fx on node {node}", fx), _finite(f"Load fy on node {node}", fy))
+            old = self._followers.get((node, bool(constant)), (0.0, 0.0))
+            self._followers[(node, bool(constant))] = (old[0] + v[0], old[1] + v[1])
+            self._changed()
+            return
         for name, value in (("fx", fx), ("fy", fy), ("mz", mz)):
             v = _finite(f"Load {name} on node {node}", value)
             if v != 0.0:
@@ -224,12 +352,65 @@ class Structure:
         return np.array(sorted(3 * n + d for n, d in self._fixed), dtype=np.int64)
 
     def load_vector(self, constant: bool = False) -> np.ndarray:
-        """Nodal reference (or constant) loads as a vector of shape (3·n_nodes,)."""
+        """Dead reference (or constant) loads as nodal forces, shape (3·n_nodes,).
+
+        Nodal loads, dead line loads and self-weight; follower loads depend on the
+        deformation and are evaluated by the assembly.
+        """
         f = np.zeros(3 * self.n_nodes)
         for (n, d, c), v in self._loads.items():
             if c == constant:
                 f[3 * n + d] += v
+        for mid, qx, qy, _, _, c in self._line_loads:
+            if c == constant and (qx or qy):
+                self._spread(f, self.members[mid], np.array([qx, qy]))
+        if self._gravity is not None and self._gravity[3] == constant:
+            g, dx, dy, _ = self._gravity
+            for m in self.members:
+                if m.section.density > 0.0:
+                    self._spread(f, m, m.section.density * m.section.A * g * np.array([dx, dy]))
         return f
+
+    def _spread(self, f: np.ndarray, m: Member, q: np.ndarray) -> None:
+        """Add half of each element's load q·L0 to each of its ends."""
+        nodes = np.array(m.nodes)
+        L0 = self.element_lengths("bar" if m.kind == "cable" else m.kind)[m.elements]
+        for end in (nodes[:-1], nodes[1:]):
+            for k in range(2):
+                np.add.at(f, 3 * end + k, 0.5 * q[k] * L0)
+
+    def element_lengths(self, kind: str) -> np.ndarray:
+        """Unstretched length of every element of a kind, shape (n_elements,)."""
+        nodes, _ = self.element_table(kind)
+        xy = self.xy
+        L = np.hypot(*(xy[nodes[:, 1]] - xy[nodes[:, 0]]).T) if len(nodes) else np.zeros(0)
+        if kind == "bar" and len(L):
+            given = np.array(self._bar_L0)
+            L = np.where(np.isnan(given), L, given)
+        return L
+
+    def tension_only(self) -> np.ndarray:
+        """Which bar elements are cable segments, shape (n_bar_elements,), bool."""
+        return np.array(self._bar_cable, dtype=bool)
+
+    def follower_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray]:
+        """Nodes with follower forces and the forces at zero rotation, shapes (n,), (n, 2)."""
+        keys = sorted(k for k in self._followers if k[1] == constant)
+        nodes = np.array([k[0] for k in keys], dtype=np.int64)
+        return nodes, np.array([self._followers[k] for k in keys], dtype=float).reshape(-1, 2)
+
+    def pressure_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Follower line loads per element: kind ("beam"/"bar") of each row, element
+        index in its table, and (normal, tangential) per unit deformed length."""
+        kinds, elems, vals = [], [], []
+        for mid, _, _, p, t, c in self._line_loads:
+            if c == constant and (p or t):
+                m = self.members[mid]
+                kinds += ["bar" if m.kind == "cable" else m.kind] * len(m.elements)
+                elems += list(m.elements)
+                vals += [(p, t)] * len(m.elements)
+        return (np.array(kinds, dtype=object), np.array(elems, dtype=np.int64),
+                np.array(vals, dtype=float).reshape(-1, 2))
 
     def spring_table(self) -> tuple[np.ndarray, np.ndarray]:
         """Global DOF indices and stiffnesses of grounded springs."""
@@ -239,6 +420,8 @@ class Structure:
 
     def __repr__(self) -> str:
         nb = len(self._elements["beam"])
-        nr = len(self._elements["bar"])
+        nc = int(sum(self._bar_cable))
+        nr = len(self._elements["bar"]) - nc
+        cables = f", {nc} cable" if nc else ""
         return (f"Structure({self.n_nodes} nodes, {len(self.members)} members: "
-                f"{nb} beam and {nr} bar elements)")
+                f"{nb} beam and {nr} bar{cables} elements)")

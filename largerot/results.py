@@ -189,8 +189,76 @@ class EquilibriumPath(_Displacements):
         u = self.u[range(len(self))[i]]
         return member_lines(self.structure, u, n_sub)
 
+    # -- member forces --------------------------------------------------------------
+    def member_forces(self, i: int | None = None) -> dict:
+        """End forces of every element at point ``i`` (all points when None).
+
+        Returns
+        -------
+        dict
+            ``"beam"``: ``"N"`` (tension positive) and ``"V"`` (= dM/ds), shape
+            (n_beam_elements,), and ``"M"`` at both ends, shape (n_beam_elements, 2),
+            positive when it stretches the element's right-hand side seen from end 1
+            toward end 2; ``"bar"``: ``"N"`` and ``"slack"``, shape (n_bar_elements,),
+            cable segments included. With ``i=None`` every array gains a leading
+            axis of length n_points. Recomputed from the stored displacements.
+        """
+        from .assembly import Assembly
+
+        asm = Assembly.of(self.structure)
+        if i is not None:
+            return asm.element_forces(self.u[range(len(self))[i]])
+        each = [asm.element_forces(u) for u in self.u]
+        return {k: {name: np.array([f[k][name] for f in each]) for name in each[0][k]}
+                for k in ("beam", "bar")} if each else {}
+
+    def reactions(self, i: int) -> np.ndarray:
+        """Support reactions at point ``i``, shape (3·n_nodes,) (zero at free DOFs).
+
+        The force each restrained DOF receives from its support: internal force minus
+        the loads applied there.
+        """
+        from .assembly import Assembly
+
+        asm = Assembly.of(self.structure)
+        i = range(len(self))[i]
+        u = self.u[i]
+        f, _, _, _ = asm.evaluate(u, tangent=False)
+        F_ref, F_const = asm.external(u)
+        R = f - self.load_factor[i] * F_ref - F_const
+        R[asm.free] = 0.0
+        R[asm.dropped] = 0.0
+        return R
+
+    @property
+    def slack(self) -> np.ndarray:
+        """Which cable segments are slack at each point, shape (n_points, n_cable_elements)."""
+        if "slack" in self.extra:
+            return np.asarray(self.extra["slack"], dtype=bool)
+        return np.zeros((len(self), 0), dtype=bool)
+
+    def forces_table(self, i: int):
+        """Element end forces at point ``i``, one row per element (pandas DataFrame)."""
+        import pandas as pd
+
+        f = self.member_forces(i)
+        beam_nodes, _ = self.structure.element_table("beam")
+        bar_nodes, _ = self.structure.element_table("bar")
+        cable = self.structure.tension_only()
+        rows = {
+            "kind": ["beam"] * len(beam_nodes) + ["cable" if c else "bar" for c in cable],
+            "node_1": np.concatenate([beam_nodes[:, 0], bar_nodes[:, 0]]),
+            "node_2": np.concatenate([beam_nodes[:, 1], bar_nodes[:, 1]]),
+            "N": np.concatenate([f["beam"]["N"], f["bar"]["N"]]),
+            "V": np.concatenate([f["beam"]["V"], np.zeros(len(bar_nodes))]),
+            "M_1": np.concatenate([f["beam"]["M"][:, 0], np.zeros(len(bar_nodes))]),
+            "M_2": np.concatenate([f["beam"]["M"][:, 1], np.zeros(len(bar_nodes))]),
+            "slack": np.concatenate([np.zeros(len(beam_nodes), bool), f["bar"]["slack"]]),
+        }
+        return pd.DataFrame(rows).rename_axis("element")
+
     # -- tables -------------------------------------------------------------------
-    def to_dataframe(self, nodes=None):
+    def to_dataframe(self, nodes=None, forces: bool = False):
         """One row per point: load factor, Newton effort, stability, node displacements.
 
         Parameters
@@ -198,6 +266,9 @@ class EquilibriumPath(_Displacements):
         nodes : sequence of int, optional
             Nodes whose DOFs get columns (``"ux[4]"``...). Default: loaded nodes, or
             every node of a structure with at most 20 nodes.
+        forces : bool
+            Add the extremes of the member forces at each point: ``"max |M|"``,
+            ``"max N"``, ``"min N"`` and the number of slack cable segments.
         """
         import pandas as pd
 
@@ -216,6 +287,14 @@ class EquilibriumPath(_Displacements):
         for n in nodes:
             for d in DOFS:
                 cols[f"{d}[{n}]"] = self.displacement(n, d)
+        if forces and len(self):
+            f = self.member_forces()
+            N = np.concatenate([f["beam"]["N"], f["bar"]["N"]], axis=1)
+            M = np.abs(f["beam"]["M"]).reshape(len(self), -1)
+            cols["max |M|"] = M.max(axis=1) if M.shape[1] else np.zeros(len(self))
+            cols["max N"] = N.max(axis=1) if N.shape[1] else np.zeros(len(self))
+            cols["min N"] = N.min(axis=1) if N.shape[1] else np.zeros(len(self))
+            cols["slack cables"] = self.slack.sum(axis=1)
         return pd.DataFrame(cols, index=pd.RangeIndex(len(self), name="point"))
 
     def __repr__(self) -> str:

@@ -12,7 +12,13 @@ import numpy as np
 
 from ._chord import chord
 
-__all__ = ["BarResponse", "response", "N_DOF", "NODE_DOFS"]
+__all__ = ["BarResponse", "response", "N_DOF", "NODE_DOFS", "SLACK_STIFFNESS"]
+
+#: Axial stiffness a slack tension-only element keeps in the *tangent only*, as a
+#: share of EA/L0. Its force stays exactly zero, so converged answers carry no
+#: trace of it; it keeps the tangent regular when a weightless cable's interior
+#: nodes have nothing else holding them (a slack cable has no shape of its own).
+SLACK_STIFFNESS = 1e-6
 
 N_DOF = 4
 #: Which of a node's DOFs (ux, uy, rz) the element uses, per end.
@@ -41,7 +47,8 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
     EA : ndarray, shape (n_elements,)
         Axial stiffness.
     tension_only : ndarray of bool, shape (n_elements,), optional
-        Elements that carry no compression (slack: zero force and stiffness).
+        Elements that carry no compression. When slack (l ≤ L0) their force is
+        zero and their tangent only :data:`SLACK_STIFFNESS`·EA/L0 along the chord.
     tangent : bool
         Also compute the tangent.
     """
@@ -51,7 +58,7 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
     if tension_only is not None:
         slack = tension_only & (stretch <= 0.0)
         N = np.where(slack, 0.0, N)
-        k = np.where(slack, 0.0, k)
+        k = np.where(slack, SLACK_STIFFNESS * k, k)
     r = np.stack([-c, -s, c, s], axis=1)
     f = N[:, None] * r
     K = None

@@ -18,10 +18,12 @@ class Problem:
 
     def __init__(self, assembly: Assembly) -> None:
         self.assembly = assembly
+        #: reference load over the free DOFs (∂r/∂λ); with follower loads it is the
+        #: one at the last evaluated state
         self.F = assembly.F_ref[assembly.free]
         self.F_const = assembly.F_const[assembly.free]
-        # False once a load stiffness (follower loads) makes the tangent non-symmetric
-        self.symmetric = True
+        # follower loads have a non-symmetric load stiffness
+        self.symmetric = not assembly.has_followers
         self.const_factor = 1.0        # < 1 only while the constant loads are ramped in
         self.n_evaluations = 0
         L = assembly.length_scale
@@ -47,7 +49,12 @@ class Problem:
         not by a tiny applied load at the start of a path.
         """
         self.n_evaluations += 1
-        f, K, scale, _ = self.assembly.evaluate(self.full(u), tangent)
+        a = self.assembly
+        uf = self.full(u)
+        f, K, scale, _ = a.evaluate(uf, tangent, lam, self.const_factor)
+        if a.has_followers:
+            F_ref, F_const = a.external(uf)
+            self.F, self.F_const = F_ref[a.free], F_const[a.free]
         ext = self.external(lam)
         r = ext - f[self.assembly.free]
         scale = max(scale, float(np.linalg.norm(ext)), np.finfo(float).tiny)

@@ -18,6 +18,7 @@ from ..linalg import SingularTangent, factorize
 from ..model import Structure
 from ..results import PATH_STATUS, CriticalPoint, EquilibriumPath, Point
 from .critical import locate
+from .equilibrium import settle
 from .newton import LoadConstraint, NewtonResult, newton
 from .problem import Problem
 from .stability import count_negative
@@ -97,7 +98,11 @@ class PathStepper:
     # -- start ------------------------------------------------------------------
     def _start(self) -> None:
         p = self.problem
-        if np.any(p.F_const):
+        r, _, scale = p.residual(self.u, self.lam, tangent=False)
+        # measured against the reference load too: at rest the internal forces of a
+        # stiff curved member are pure round-off, and so would be the yardstick
+        if np.linalg.norm(r) > self.tol * max(scale, float(np.linalg.norm(p.F))):
+            # constant loads, pretension or a cable's own length: out of balance at rest
             self._settle_constant_loads()
         r, K, _ = p.residual(self.u, self.lam)
         try:
@@ -117,8 +122,7 @@ class PathStepper:
         done, frac, u = 0.0, 1.0, self.u
         while done < 1.0:
             p.const_factor = min(1.0, done + frac)
-            res = newton(p, u, 0.0, LoadConstraint(0.0), u, self.tol, self.tol_u,
-                         self.max_iterations)
+            res = settle(p, u, 0.0, self.tol, self.tol_u, self.max_iterations)
             if res.converged:
                 u, done = res.u, p.const_factor
                 frac = min(2 * frac, 1.0)
