@@ -19,12 +19,15 @@ Newton the contact force on the node, its internal-force contribution and tangen
 The global problem stays the stationary point of a potential, so K is symmetric and
 the stability test of the total tangent keeps its meaning. After Newton converges
 at a point the multiplier is updated λ ← p (:func:`updated_multipliers`) and the same
-point is solved again, until the largest penetration max(−g) is at most ``tol_gap``
-(:func:`converged`; default :data:`GAP_TOL` times a length). Each update shrinks the
+point is solved again, until every contact that carries force touches to within
+``tol_gap``, |g| ≤ tol_gap where p > 0 (:func:`converged`, :func:`violation`; default
+:data:`GAP_TOL` times a length); open contacts have g > 0 and p = 0 exactly. Each update shrinks the
 penetration by about k/(k + ε), k the structure's stiffness at the node, so with
 ε = :data:`PENALTY_FACTOR`·k a handful of updates reach 1e-8 of a length; the
-converged state satisfies g ≥ −tol_gap, p ≥ 0 and p·g = 0 up to that tolerance
-(an open contact has p = 0 exactly, and its λ drops to 0 at the next update).
+converged state satisfies g ≥ −tol_gap, p ≥ 0 and p·|g| ≤ p·tol_gap. On unloading
+a committed λ larger than needed holds the node off the obstacle (g > 0, p > 0);
+the complementarity part of the test catches this, and the updates release it
+(λ → 0 once the contact opens).
 
 Events: :func:`event_value` is g − p/ε, continuous along a path, positive while the
 contact is open and negative while it is closed; a sign change between two converged
@@ -48,7 +51,7 @@ import numpy as np
 from ..errors import ModelError
 
 __all__ = ["Line", "Circle", "ObstacleTable", "Gap", "ContactResponse", "table", "gap",
-           "response", "updated_multipliers", "converged", "event_value",
+           "response", "updated_multipliers", "converged", "violation", "event_value",
            "penalty_from_stiffness", "N_DOF", "NODE_DOFS", "GAP_TOL", "PENALTY_FACTOR",
            "MAX_UPDATES"]
 
@@ -201,9 +204,23 @@ def updated_multipliers(res: ContactResponse) -> np.ndarray:
     return res.p.copy()
 
 
+def violation(res: ContactResponse) -> np.ndarray:
+    """Distance from the exact contact conditions per contact, shape (n_contacts,).
+
+    |g| where the contact carries force (it must touch: p·g = 0) and 0 where it is
+    open (p = 0 and g > 0, since g < 0 always gives p > 0).
+    """
+    return np.where(res.active, np.abs(res.g), 0.0)
+
+
 def converged(res: ContactResponse, tol_gap: float) -> bool:
-    """Whether no node penetrates by more than ``tol_gap`` (a length)."""
-    return bool(len(res.g) == 0 or np.max(-res.g) <= tol_gap)
+    """Whether every contact meets the exact conditions to within ``tol_gap`` (a length).
+
+    Checks both non-penetration and complementarity: a multiplier left over from a
+    previous point can hold a node off the obstacle (g > 0 with p > 0) while the
+    structure unloads, which further updates must remove.
+    """
+    return bool(len(res.g) == 0 or np.max(violation(res)) <= tol_gap)
 
 
 def event_value(res: ContactResponse, penalty) -> np.ndarray:
