@@ -81,12 +81,19 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
     f = N[:, None] * r + M1[:, None] * b1 + M2[:, None] * b2
     K = None
     if tangent:
-        outer = lambda a, b: a[:, :, None] * b[:, None, :]  # noqa: E731
-        K = (ka[:, None, None] * outer(r, r)
-             + kb[:, None, None] * (4.0 * outer(b1, b1) + 2.0 * (outer(b1, b2) + outer(b2, b1))
-                                    + 4.0 * outer(b2, b2))
-             + (N * l)[:, None, None] * outer(z, z)
-             + ((M1 + M2) / l)[:, None, None] * (outer(r, z) + outer(z, r)))
+        # K = ka·r⊗r + kb·(4 b1⊗b1 + 2 b1⊗b2 + 2 b2⊗b1 + 4 b2⊗b2)      (material)
+        #   + N·l·z⊗z + (M1 + M2)/l·(r⊗z + z⊗r)                         (geometric)
+        # as one stacked product Cᵀ·H·C with C = (r, b1, b2, z), shape (n_elements, 4, 6),
+        # and H, shape (n_elements, 4, 4), holding the coefficients above.
+        C = np.stack([r, b1, b2, z], axis=1)
+        m = (M1 + M2) / l
+        H = np.zeros((len(l), 4, 4))
+        H[:, 0, 0] = ka
+        H[:, 1, 1] = H[:, 2, 2] = 4.0 * kb
+        H[:, 1, 2] = H[:, 2, 1] = 2.0 * kb
+        H[:, 0, 3] = H[:, 3, 0] = m
+        H[:, 3, 3] = N * l
+        K = np.matmul(C.transpose(0, 2, 1), H @ C)
     return BeamResponse(np.stack([N, M1, M2], axis=1), f, K, l)
 
 
