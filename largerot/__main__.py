@@ -1,4 +1,4 @@
-"""Command line: ``python -m largerot demo [--png FILE]``."""
+"""Command line: ``python -m largerot demo [pole|mast] [--png FILE]``."""
 from __future__ import annotations
 
 import argparse
@@ -8,12 +8,16 @@ import sys
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(prog="largerot", description="largerot command line")
     sub = parser.add_subparsers(dest="command", required=True)
-    demo = sub.add_parser("demo", help="trace the built-in cantilevered pole example")
-    demo.add_argument("--png", default="largerot-demo.png", help="figure to write ('' for none)")
+    demo = sub.add_parser("demo", help="trace a built-in example: the cantilevered pole "
+                                       "(default) or the guyed mast")
+    demo.add_argument("example", nargs="?", choices=("pole", "mast"), default="pole")
+    demo.add_argument("--png", default=None, help="figure to write ('' for none)")
     args = parser.parse_args(argv)
     if args.command == "demo":
-        from .demo import run_demo
-        print(run_demo(args.png or None))
+        from .demo import run_demo, run_mast_demo
+        run = run_demo if args.example == "pole" else run_mast_demo
+        png = f"largerot-{'demo' if args.example == 'pole' else 'mast'}.png" if args.png is None else args.png
+        print(run(png or None))
     return 0
 
 
