@@ -168,6 +168,10 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, table: FibreTable,
         Also compute the tangent.
     """
     n_gauss = state.eps_p.shape[1]
+    n_fibres = np.shape(table.y)[-1]
+    if state.eps_p.shape != (len(L0), n_gauss, n_fibres):
+        raise ModelError(f"Fibre state must have shape (n_elements, n_gauss, n_fibres) = "
+                         f"({len(L0)}, n_gauss, {n_fibres}), got {state.eps_p.shape}.")
     xi, w = quadrature(n_gauss, rule)
     if np.ndim(table.y) == 2:
         table = FibreTable(*(a[:, None, :] for a in table))
