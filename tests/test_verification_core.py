@@ -20,7 +20,7 @@ def cantilever(segments=32, EI=2.0, L=3.0, slenderness=1e6):
 
 @pytest.mark.parametrize("alpha", [1.0, 3.0, 6.0, 10.0])
 def test_cantilever_tip_load_matches_elastica(alpha):
-    # Bisshopp & Drucker (1945) elliptic-integral elastica (tests/reference.py).
+    # Bisshopp & Drucker (1945) elliptic-integral elastica (largerot.closed_form).
     # 32 elements: discretisation error ~1e-4 of L; EA·L²/EI = 1e6 makes the
     # extensible answer differ from the inextensible one by ~α·1e-6. Tolerance 0.2 %.
     EI, L = 2.0, 3.0
@@ -96,7 +96,7 @@ def two_bar_truss(half_span=2.0, rise=0.5, EA=1e4):
 
 
 def test_two_bar_truss_snap_through_by_displacement_control():
-    # Exact statics of the two-bar truss (tests/reference.py); displacement control
+    # Exact statics of the two-bar truss (largerot.closed_form); displacement control
     # passes both limit points in load. Solver tolerance 1e-12 → agreement to 1e-9
     # relative to the peak load.
     s, apex = two_bar_truss()
