@@ -137,7 +137,7 @@ def corotate(c, s, l, q, k=None):
     if k is None:
         return f, None
     N, M = q[:, 0], q[:, 1] + q[:, 2]
-    K = (np.einsum("eai,eab,ebj->eij", B, k, B)
+    K = (np.swapaxes(B, 1, 2) @ k @ B
          + (N * l)[:, None, None] * z[:, :, None] * z[:, None, :]
          + (M / l)[:, None, None] * (r[:, :, None] * z[:, None, :] + z[:, :, None] * r[:, None, :]))
     return f, K
@@ -183,11 +183,12 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, table: FibreTable,
     sec = section_response(table, eps0, kappa, state)
     q = np.stack([sec.N @ w, (sec.M * g1) @ w, (sec.M * g2) @ w], axis=1)
     k = None
-    if tangent:
-        Bg = np.zeros((n_gauss, 2, 3))
-        Bg[:, 0, 0] = 1.0
-        Bg[:, 1, 1], Bg[:, 1, 2] = g1, g2                      # B_g·L0
-        k = np.einsum("g,gai,egab,gbj->eij", w, Bg, sec.D, Bg) / L0[:, None, None]
+    if tangent:                      # L0·Σ w_g·B_gᵀ·D_g·B_g written out (B_g is sparse)
+        D11, D12, D22 = sec.D[..., 0, 0] @ w, sec.D[..., 0, 1] * w, sec.D[..., 1, 1] * w
+        a1, a2 = D12 @ g1, D12 @ g2
+        b11, b12, b22 = D22 @ (g1 * g1), D22 @ (g1 * g2), D22 @ (g2 * g2)
+        k = np.stack([np.stack([D11, a1, a2], -1), np.stack([a1, b11, b12], -1),
+                      np.stack([a2, b12, b22], -1)], -2) / L0[:, None, None]
     f, K = corotate(c, s, l, q, k)
     return FibreBeamResponse(q, f, K, l, sec.state, eps0, kappa,
                              np.stack([sec.N, sec.M], axis=-1))
