@@ -38,6 +38,11 @@ log = logging.getLogger(__name__)
 LIMIT_COSINE = 1e-3
 #: Bracket width in σ at which the search stops (σ runs over one step, 0…1).
 SIGMA_TOL = 1e-11
+#: Shift in σ to a neighbour when the tangent at a trial point is exactly singular
+#: (it then *is* the critical point). Tried: ±1e-9, then ±1e-6, ±1e-4.5 if the
+#: neighbour is still singular; λ there is off by ~1e-9·|Δλ| at a bifurcation (or
+#: the square of the shift at a limit point, where λ is stationary).
+ONE_SIDE = 1e-9
 
 
 class _NoPoint(Exception):
@@ -84,6 +89,20 @@ def locate(problem, lam_scale: float, u_a, lam_a: float, u_b, lam_b: float, n_a:
         res = newton(problem, u_a + sigma * t_u, lam_a + sigma * t_lam, c, u_a,
                      tol, np.inf, max_iterations)
         count[0] += res.iterations + 1
+        if not res.converged and len(res.residuals) and res.residuals[-1] <= tol:
+            # in equilibrium, but the tangent there is singular to working precision:
+            # this is the critical point. Keep a converged neighbour for the state
+            # (its factorisation serves the next step) and report μ = 0.
+            for d in (x * ONE_SIDE ** (1.0 / k) for k in (1, 1.5, 2) for x in (1.0, -1.0)):
+                c = PlaneConstraint(metric, u_a, lam_a, t_u, t_lam, (sigma + d) * T2)
+                near = newton(problem, u_a + (sigma + d) * t_u, lam_a + (sigma + d) * t_lam, c,
+                              u_a, tol, np.inf, max_iterations)
+                count[0] += near.iterations + 1
+                log.debug("singular tangent at σ = %.12g; neighbour σ%+.1e converged: %s",
+                          sigma, d, near.converged)
+                if near.converged:
+                    cache[sigma] = (0.0, eigenpair(near.factorization.K, j, sym)[1], near)
+                    return cache[sigma]
         if not res.converged:
             raise _NoPoint(res.message)
         mu, phi = eigenpair(res.factorization.K, j, sym)

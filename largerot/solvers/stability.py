@@ -20,6 +20,7 @@ The point is stable when the count is zero.
 from __future__ import annotations
 
 import numpy as np
+import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
@@ -83,8 +84,9 @@ def eigenpair(K: sp.spmatrix, j: int, symmetric: bool = True) -> tuple[float, np
     n = K.shape[0]
     if symmetric:
         if n <= DENSE_MAX:
-            w, v = np.linalg.eigh(K.toarray())
-            return float(w[j]), v[:, j]
+            # one eigenpair by index (LAPACK's MRRR): several times faster than all
+            w, v = sla.eigh(K.toarray(), subset_by_index=[j, j], driver="evr")
+            return float(w[0]), v[:, 0]
         w, v = spla.eigsh(K, k=min(j + 2, n - 1), which="SA")
         order = np.argsort(w)
         return float(w[order[j]]), v[:, order[j]]
