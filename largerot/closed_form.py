@@ -120,7 +120,8 @@ def shallow_arch_central_load(rise: float, span: float, EI: float, EA: float,
     dict with ``P``, ``H``, ``deflection`` (mid-span, downward) along the symmetric
     path, shape (n_points,); ``limit_load`` (first maximum of P), ``bifurcation_load``
     (P where H first reaches 4π²EI/L², NaN if the limit point comes first or it
-    never does) and ``first`` (``"limit"`` or ``"bifurcation"``).
+    never does) and ``first`` (``"limit"``, ``"bifurcation"``, or ``"none"`` for an
+    arch too flat to snap).
     """
     if shape == "circular":
         b = _circular_arch_coefficients(rise, span, n_terms)
@@ -190,7 +191,7 @@ def shallow_arch_central_load(rise: float, span: float, EI: float, EA: float,
         q1 = brentq(lambda q: brentq(mismatch, H[j - 1] - 0.05 * PE, H[j] + 0.05 * PE, args=(q,),
                                      xtol=1e-15 * PE) - 4.0 * PE, q1s[j - 1], q1s[j], xtol=1e-15 * abs(b[0]))
         bif = float(load(q1, 4.0 * PE))
-    first = "bifurcation" if np.isfinite(bif) else "limit"
+    first = "bifurcation" if np.isfinite(bif) else "limit" if np.isfinite(limit) else "none"
     return {"P": P, "H": H, "deflection": w, "limit_load": limit, "bifurcation_load": bif,
             "first": first}
 
