@@ -176,7 +176,8 @@ def shallow_arch(rise: float = 0.2, span: float = 10.0, segments: int = 32,
     pinned (or ``support="clamped"``); reference load 1 kN downward at the crown, so
     λ is the load in kN. With rise/(radius of gyration) ≈ 3.5 the crown snaps
     through symmetrically at a limit point; the trace ends once the crown is
-    2.2 rises down (the rib inverted).
+    2.2 rises down (the rib inverted). Clamped ends stiffen the rib so much that the
+    default rise no longer snaps: a clamped rib needs a rise of about 0.5 m here.
     """
     return _arch(rise, span, segments, support, width, depth, E, load, 2.2, "shallow")
 
