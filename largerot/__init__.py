@@ -5,9 +5,11 @@ equilibrium path.
 """
 from .errors import ModelError
 from .model import DOFS, Member, Structure
-from .results import CriticalPoint, EquilibriumPath, Point
+from .results import CriticalPoint, EquilibriumPath, Event, Point
 from .sections import Section
-from .solvers import by_arc_length, by_displacement, by_load, trace
+from .fibres import FibreSection
+from .elements.contact import Circle, Line
+from .solvers import by_arc_length, by_displacement, by_load, run, trace
 from .buckling import Buckling, buckling, imperfect
 from . import plotting
 
@@ -21,6 +23,6 @@ def __getattr__(name):
 
 __version__ = "0.1.0"
 
-__all__ = ["ModelError", "Structure", "Member", "Section", "DOFS", "EquilibriumPath", "Point",
-           "CriticalPoint", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
+__all__ = ["ModelError", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
+           "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
            "imperfect", "trace", "plotting", "widgets", "__version__"]

@@ -13,8 +13,8 @@ from typing import Callable
 import numpy as np
 import scipy.sparse as sp
 
-from . import loads
-from .elements import bar, beam
+from . import fibres, loads
+from .elements import bar, beam, contact, fibre_beam
 from .errors import ModelError
 from .model import DOFS, Structure
 
@@ -39,6 +39,11 @@ class ElementGroup:
     dofmap: np.ndarray                  # shape (n_elements, n_dof), global DOF indices
     kernel: Callable
     positions: np.ndarray | None = None  # shape (n_elements·n_dof²,), into CSC data
+    #: history the kernel reads (fibre states, contact multipliers): plain arrays,
+    #: ``committed`` at converged points, ``state`` the working copy
+    state: object = None
+    committed: object = None
+    initial: object = None
 
 
 @dataclass
@@ -73,6 +78,7 @@ class Assembly:
         self._build_groups()
         self._classify_dofs()
         self._build_pattern()
+        self.reset_state()
 
     # -- set-up ---------------------------------------------------------------
     def _geometry(self, nodes: np.ndarray):
@@ -95,6 +101,13 @@ class Assembly:
         s = self.structure
         nodes, sec = s.element_table("beam")
         self.beam_nodes = nodes
+        is_fibre = np.array([isinstance(x, fibres.FibreSection) for x in s.sections], bool)
+        fibre_rows = is_fibre[sec] if len(sec) else np.zeros(0, bool)
+        self.beam_rows = np.flatnonzero(~fibre_rows)      # elastic beams among the beams
+        self.fibre_rows = np.flatnonzero(fibre_rows)
+        if fibre_rows.any():
+            self._add_fibre_group(nodes[fibre_rows], sec[fibre_rows])
+        nodes, sec = nodes[~fibre_rows], sec[~fibre_rows]
         if len(nodes):
             X1, dX, L0 = self._geometry(nodes)
             EA, EI = self._section_arrays(sec)
@@ -122,7 +135,124 @@ class Assembly:
 
             self.groups.append(ElementGroup("bar", self._dofmap(nodes, bar.NODE_DOFS), bar_kernel))
         self.spring_dofs, self.spring_k = s.spring_table()
+        self._add_contact_group()
         self._build_load_groups()
+
+    def _add_fibre_group(self, nodes: np.ndarray, sec: np.ndarray) -> None:
+        secs = self.structure.sections
+        used = sorted(set(sec.tolist()))
+        table = fibres.stack([secs[i] for i in used], np.searchsorted(used, sec))
+        X1, dX, L0 = self._geometry(nodes)
+        self.fibre_geometry = (X1, dX, L0)
+        self.fibre_table = table
+        self.fibre_limits = (np.array([secs[i].depth for i in sec]), np.array([secs[i].E for i in sec]),
+                             np.array([secs[i].fy for i in sec]))
+        grp = ElementGroup("fibre", self._dofmap(nodes, fibre_beam.NODE_DOFS), None)
+        grp.initial = fibre_beam.initial_state(len(nodes), table.y.shape[-1])
+
+        def fibre_kernel(ue, tangent, grp=grp):
+            res = fibre_beam.response(dX, L0, ue, table, grp.state, tangent=tangent)
+            return res.f, res.K, {"q": res.q, "l": res.l, "state": res.state,
+                                  "eps0": res.eps0, "kappa": res.kappa}
+
+        grp.kernel = fibre_kernel
+        self.groups.append(grp)
+
+    def _add_contact_group(self) -> None:
+        pairs = self.structure.contact_table()
+        if not pairs:
+            return
+        nodes = np.array([n for n, _ in pairs], dtype=np.int64)
+        obstacles = list(dict.fromkeys(o for _, o in pairs))
+        table = contact.table(obstacles, [obstacles.index(o) for _, o in pairs])
+        X = self.xy[nodes]
+        self.contact_nodes = nodes
+        grp = ElementGroup("contact", 3 * nodes[:, None] + np.arange(2), None)
+        grp.initial = {"lam": np.zeros(len(nodes)), "penalty": np.ones(len(nodes))}
+
+        def contact_kernel(ue, tangent, grp=grp):
+            res = contact.response(X, ue, table, grp.state["lam"], grp.state["penalty"], tangent)
+            return res.f, res.K, {"response": res}
+
+        grp.kernel = contact_kernel
+        g0 = contact.gap(table, X).g
+        inside = np.flatnonzero(g0 < 0.0)
+        if len(inside):
+            raise ModelError(f"Node {int(nodes[inside[0]])} starts inside its obstacle "
+                             f"(gap {g0[inside[0]]:.4g}); move the node or the obstacle.")
+        self.groups.append(grp)
+
+    # -- history (fibre states, contact multipliers) --------------------------------
+    @property
+    def has_contacts(self) -> bool:
+        return any(g.kind == "contact" for g in self.groups)
+
+    @property
+    def stateful(self) -> list:
+        return [g for g in self.groups if g.initial is not None]
+
+    def reset_state(self) -> None:
+        """Back to the virgin state: no plastic strain, no contact forces."""
+        for g in self.stateful:
+            g.state, g.committed = _copy(g.initial), _copy(g.initial)
+
+    def restore_state(self) -> None:
+        """Drop working changes since the last commit (a cut step)."""
+        for g in self.stateful:
+            g.state = _copy(g.committed)
+
+    def commit_state(self, u: np.ndarray) -> None:
+        """Make the state at the converged full displacement vector ``u`` the committed one."""
+        for g in self.stateful:
+            if g.kind == "fibre":
+                _, _, ex = g.kernel(u[g.dofmap], False)
+                g.state = ex["state"]
+            g.committed = _copy(g.state)
+
+    def state_data(self) -> dict:
+        """The committed history as plain arrays, by group kind."""
+        out = {}
+        for g in self.stateful:
+            c = g.committed
+            out[g.kind] = dict(c._asdict()) if hasattr(c, "_asdict") else dict(c)
+        return out
+
+    def contact_response(self, u: np.ndarray):
+        """The contact kernel's full response at ``u`` (None without contacts)."""
+        g = next((g for g in self.groups if g.kind == "contact"), None)
+        return None if g is None else g.kernel(u[g.dofmap], False)[2]["response"]
+
+    def set_contact_penalty(self, fact, u: np.ndarray) -> None:
+        """Penalties from the structure's own stiffness along each contact's normal.
+
+        k = 1/(nᵀ·F·n) with F the node's 2×2 block of K⁻¹ (from the factorised tangent
+        ``fact`` at the full displacement vector ``u``), less the penalty spring of a
+        closed contact; ε = ``PENALTY_FACTOR``·k (:mod:`largerot.elements.contact`).
+        Called at converged points, so ε follows the structure as it rotates.
+        """
+        g = next((g for g in self.groups if g.kind == "contact"), None)
+        if g is None:
+            return
+        fi = self.free_index[g.dofmap]                       # (n_contacts, 2)
+        if np.any(fi < 0):
+            bad = int(self.contact_nodes[np.flatnonzero((fi < 0).any(axis=1))[0]])
+            raise ModelError(f"Node {bad} is in contact but its translations are restrained; "
+                             "a supported node cannot touch an obstacle.")
+        res = g.kernel(u[g.dofmap], False)[2]["response"]
+        rhs = np.zeros((fact.n, 2 * len(fi)))
+        cols = np.arange(2 * len(fi))
+        rhs[fi.ravel(), cols] = 1.0
+        x = fact.solve(rhs)                                  # (n, 2·n_contacts)
+        F = x[fi.ravel()][:, cols].reshape(len(fi), 2, len(fi), 2)
+        F = F[np.arange(len(fi)), :, np.arange(len(fi)), :]  # (n_contacts, 2, 2)
+        flex = np.einsum("ci,cij,cj->c", res.n, F, res.n)
+        k = np.where(flex > 0, 1.0 / np.where(flex > 0, flex, 1.0), 0.0)
+        k = np.where(res.active, k - g.state["penalty"], k)
+        if not np.all(k > 0):
+            k = np.where(k > 0, k, np.abs(fact.K.diagonal())[fi].max(axis=1))
+        pen = contact.penalty_from_stiffness(k)
+        for st in (g.state, g.committed):
+            st["penalty"] = pen.copy()
 
     def _build_load_groups(self) -> None:
         s = self.structure
@@ -274,7 +404,7 @@ class Assembly:
             K = sp.csc_matrix((data[:-1], self.indices, self.indptr), shape=(self.n_free, self.n_free))
         return f, K, np.sqrt(scale2), extra
 
-    def element_forces(self, u: np.ndarray) -> dict:
+    def element_forces(self, u: np.ndarray, fibre_q: np.ndarray | None = None) -> dict:
         """End forces of every element at the full displacement vector ``u``.
 
         Returns
@@ -287,24 +417,54 @@ class Assembly:
             ``"bar"``: ``"N"``, shape (n_bar,) (cable segments included, zero when
             slack) and ``"slack"``, bool.
         """
-        out = {"beam": {"N": np.zeros(0), "V": np.zeros(0), "M": np.zeros((0, 2))},
+        nb = len(self.beam_nodes)
+        out = {"beam": {"N": np.zeros(nb), "V": np.zeros(nb), "M": np.zeros((nb, 2))},
                "bar": {"N": np.zeros(0), "slack": np.zeros(0, bool)}}
         for g in self.groups:
+            if g.kind == "contact":
+                continue
             _, _, ex = g.kernel(u[g.dofmap], False)
-            if g.kind == "beam":
-                N, M1, M2 = ex["q"].T
-                out["beam"] = {"N": N, "V": (M1 + M2) / ex["l"], "M": np.stack([-M1, M2], axis=1)}
+            if g.kind in ("beam", "fibre"):
+                # fibre beams' forces depend on their history: the path passes them in
+                q = fibre_q if g.kind == "fibre" and fibre_q is not None else ex["q"]
+                rows = self.beam_rows if g.kind == "beam" else self.fibre_rows
+                N, M1, M2 = q.T
+                out["beam"]["N"][rows] = N
+                out["beam"]["V"][rows] = (M1 + M2) / ex["l"]
+                out["beam"]["M"][rows] = np.stack([-M1, M2], axis=1)
             elif g.kind == "bar":
                 out["bar"] = {"N": ex["N"], "slack": self.cable & (ex["N"] == 0.0)}
         return out
 
     def point_data(self, u: np.ndarray) -> dict:
-        """Per-point data kept along a path: which cable segments are slack."""
-        if not self.cable.any():
-            return {}
-        g = next(g for g in self.groups if g.kind == "bar")
-        _, _, ex = g.kernel(u[g.dofmap], False)
-        return {"slack": ex["N"][self.cable] == 0.0}
+        """Per-point data kept along a path.
+
+        ``"slack"``: which cable segments are slack; for fibre beams ``"fibre_q"``
+        (local forces, history-dependent), ``"yielded"`` (area fraction ever yielded
+        per element and section point) and ``"yield_margin"`` (largest first-yield
+        margin, zero at first yield); for contacts ``"contact_force"``, ``"gap"`` and
+        ``"contact_event"`` (> 0 open, < 0 closed).
+        """
+        out = {}
+        for g in self.groups:
+            if g.kind == "bar" and self.cable.any():
+                _, _, ex = g.kernel(u[g.dofmap], False)
+                out["slack"] = ex["N"][self.cable] == 0.0
+            elif g.kind == "fibre":
+                _, _, ex = g.kernel(u[g.dofmap], False)
+                depth, E, fy = self.fibre_limits
+                out["fibre_q"] = ex["q"]
+                out["yielded"] = fibres.yielded_fraction(ex["state"], self.fibre_table.dA[:, None, :])
+                virgin = ex["state"].acc.max() == 0.0
+                margin = fibres.first_yield_margin(ex["eps0"], ex["kappa"], depth[:, None],
+                                                   E[:, None], fy[:, None]).max()
+                out["yield_margin"] = np.array(margin if virgin else max(margin, 0.0))
+            elif g.kind == "contact":
+                res = g.kernel(u[g.dofmap], False)[2]["response"]
+                out["contact_force"] = res.p
+                out["gap"] = res.g
+                out["contact_event"] = contact.event_value(res, g.state["penalty"])
+        return out
 
     def element_arrays(self, u: np.ndarray) -> dict:
         """Unassembled element forces and tangents per group (for tests)."""
@@ -336,3 +496,10 @@ class Assembly:
             cached = cls(structure)
             structure._assembly = cached
         return cached
+
+
+def _copy(state):
+    """A copy of a group's history (NamedTuple or dict of arrays)."""
+    if hasattr(state, "_asdict"):
+        return type(state)(*(np.array(a, copy=True) for a in state))
+    return {k: np.array(v, copy=True) for k, v in state.items()}

@@ -101,6 +101,7 @@ class Structure:
         self._line_loads: list[tuple[int, float, float, float, float, bool]] = []
         self._followers: dict[tuple[int, bool], tuple[float, float]] = {}
         self._gravity: tuple[float, float, float, bool] | None = None
+        self._contacts: list[tuple[int, object]] = []
         self._member_ends: dict[tuple[str, int, int], int] = {}   # (table, a, b) -> member
         self._version = 0
 
@@ -132,8 +133,9 @@ class Structure:
         return int(n)
 
     def _section_id(self, section: Section) -> int:
-        if not isinstance(section, Section):
-            raise ModelError(f"Expected a largerot.Section, got {section!r}.")
+        from .fibres import FibreSection     # a beam may yield: its section has fibres
+        if not isinstance(section, (Section, FibreSection)):
+            raise ModelError(f"Expected a largerot.Section or largerot.FibreSection, got {section!r}.")
         for i, s in enumerate(self._sections):
             if s is section:
                 return i
@@ -290,6 +292,35 @@ class Structure:
                 or not 0 <= mid < len(self.members):
             raise ModelError(f"Unknown member {member!r} (the structure has {len(self.members)} members).")
         return self.members[int(mid)]
+
+    def contact(self, nodes, obstacle) -> None:
+        """Keep nodes out of a rigid obstacle (frictionless, unilateral).
+
+        Parameters
+        ----------
+        nodes : int or sequence of int
+            Nodes that may touch it (e.g. ``member.nodes`` to sample a member).
+        obstacle : largerot.Line or largerot.Circle
+            A half-plane (the free side is where its normal points) or a round stop.
+
+        Enforced exactly, to a gap tolerance of ``GAP_TOL`` × the structure's size,
+        by an augmented Lagrangian with Uzawa updates at each converged point
+        (:mod:`largerot.elements.contact`).
+        """
+        from .elements.contact import Circle, Line
+        if not isinstance(obstacle, (Line, Circle)):
+            raise ModelError(f"Expected an obstacle, largerot.Line or largerot.Circle, got {obstacle!r}.")
+        ids = [nodes] if isinstance(nodes, (int, np.integer)) else list(nodes)
+        for n in ids:
+            n = self._check_node(n, "contact")
+            if any(m == n and o is obstacle for m, o in self._contacts):
+                raise ModelError(f"Node {n} is already in contact with this obstacle.")
+            self._contacts.append((n, obstacle))
+        self._changed()
+
+    def contact_table(self) -> list:
+        """(node, obstacle) pairs in the order given."""
+        return list(self._contacts)
 
     def fix(self, node: int, *dofs: str) -> None:
         """Restrain DOFs of a node; all three when none are named.

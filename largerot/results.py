@@ -8,7 +8,7 @@ import numpy as np
 from .elements import beam as beam_kernel
 from .model import DOFS, Structure, dof_index
 
-__all__ = ["EquilibriumPath", "Point", "CriticalPoint", "PATH_STATUS"]
+__all__ = ["EquilibriumPath", "Point", "CriticalPoint", "Event", "PATH_STATUS"]
 
 #: What ``path.status`` can be, with its message (one table for all steppers).
 PATH_STATUS = {
@@ -50,6 +50,30 @@ class CriticalPoint:
     mode: np.ndarray = field(repr=False)
     located: bool = True
     load_cosine: float = float("nan")
+
+
+@dataclass
+class Event:
+    """Something that happened between two points of a path.
+
+    Attributes
+    ----------
+    kind : str
+        ``"first yield"``, ``"contact closes"``, ``"contact opens"``, ``"cable slack"``
+        or ``"cable taut"``.
+    index : int
+        The path point before it.
+    load_factor : float
+        Where it happened (linear interpolation of the event function between
+        the two points; the later point's λ for cables).
+    detail : str
+        Which node or element.
+    """
+
+    kind: str
+    index: int
+    load_factor: float
+    detail: str = ""
 
 
 class _Displacements:
@@ -117,7 +141,8 @@ class EquilibriumPath(_Displacements):
 
     def __init__(self, structure: Structure, free: np.ndarray, load_factor, u_free,
                  iterations, residuals, n_negative, status: str, message: str,
-                 critical_points=None, counters=None, extra=None, arc_length=None) -> None:
+                 critical_points=None, counters=None, extra=None, arc_length=None,
+                 events=None) -> None:
         self.structure = structure
         self.free = np.asarray(free)
         self.load_factor = np.asarray(load_factor, dtype=float)
@@ -127,6 +152,7 @@ class EquilibriumPath(_Displacements):
         self.n_negative = np.asarray(n_negative, dtype=int)
         self.status, self.message = status, message
         self.critical_points = list(critical_points or [])
+        self.events = list(events or [])
         self.counters = dict(counters or {})
         self.extra = dict(extra or {})
         self.arc_length = (np.full(len(self.load_factor), np.nan) if arc_length is None
@@ -206,9 +232,11 @@ class EquilibriumPath(_Displacements):
         from .assembly import Assembly
 
         asm = Assembly.of(self.structure)
+        fq = self.extra.get("fibre_q")
         if i is not None:
-            return asm.element_forces(self.u[range(len(self))[i]])
-        each = [asm.element_forces(u) for u in self.u]
+            i = range(len(self))[i]
+            return asm.element_forces(self.u[i], None if fq is None else fq[i])
+        each = [asm.element_forces(u, None if fq is None else fq[j]) for j, u in enumerate(self.u)]
         return {k: {name: np.array([f[k][name] for f in each]) for name in each[0][k]}
                 for k in ("beam", "bar")} if each else {}
 
@@ -229,6 +257,19 @@ class EquilibriumPath(_Displacements):
         R[asm.free] = 0.0
         R[asm.dropped] = 0.0
         return R
+
+    @property
+    def yielded(self) -> np.ndarray:
+        """Area fraction of each fibre-beam section point that has yielded.
+
+        Shape (n_points, n_fibre_elements, n_section_points); empty without fibre beams.
+        """
+        return np.asarray(self.extra.get("yielded", np.zeros((len(self), 0, 0))))
+
+    @property
+    def contact_forces(self) -> np.ndarray:
+        """Force of each contact on its node at each point, shape (n_points, n_contacts)."""
+        return np.asarray(self.extra.get("contact_force", np.zeros((len(self), 0))))
 
     @property
     def slack(self) -> np.ndarray:

@@ -16,7 +16,8 @@ from ..assembly import Assembly, dof_label
 from ..errors import ModelError
 from ..linalg import SingularTangent, factorize
 from ..model import Structure
-from ..results import PATH_STATUS, CriticalPoint, EquilibriumPath, Point
+from ..elements import contact
+from ..results import PATH_STATUS, CriticalPoint, EquilibriumPath, Event, Point
 from .critical import locate
 from .equilibrium import settle
 from .newton import LoadConstraint, NewtonResult, newton
@@ -67,6 +68,7 @@ class PathStepper:
             raise ValueError(f"`max_iterations` must be at least 1, got {max_iterations!r}.")
         self.structure = structure
         self.assembly = Assembly.of(structure)
+        self.assembly.reset_state()          # a new trace starts from the virgin material
         self.problem = Problem(self.assembly)
         self.tol, self.tol_u, self.max_iterations = float(tol), float(tol_u), int(max_iterations)
         self.target = None if target_load_factor is None else float(target_load_factor)
@@ -92,13 +94,19 @@ class PathStepper:
         self._arc: list[float] = []
         self._extra: dict[str, list] = {}
         self.critical_points: list[CriticalPoint] = []
+        self.events: list[Event] = []
         self.lam_scale = 1.0
         self._start()
 
     # -- start ------------------------------------------------------------------
     def _start(self) -> None:
         p = self.problem
-        r, _, scale = p.residual(self.u, self.lam, tangent=False)
+        r, K0, scale = p.residual(self.u, self.lam)
+        if self.assembly.has_contacts:   # penalties from the structure at rest
+            try:
+                self.assembly.set_contact_penalty(factorize(K0, symmetric=p.symmetric), p.full(self.u))
+            except SingularTangent:
+                pass
         # measured against the reference load too: at rest the internal forces of a
         # stiff curved member are pure round-off, and so would be the yardstick
         if np.linalg.norm(r) > self.tol * max(scale, float(np.linalg.norm(p.F))):
@@ -110,6 +118,8 @@ class PathStepper:
         except SingularTangent as exc:
             raise self._mechanism_error(K, exc) from None
         self.n_factorizations += 1
+        if self.assembly.has_contacts:
+            self.assembly.set_contact_penalty(self._fact, p.full(self.u))
         if p.F.any():
             # displacement per unit λ of the linear response: weighs λ against u in
             # the arc-length metric (and in ``path.arc_length``)
@@ -160,6 +170,7 @@ class PathStepper:
                 if self.target is not None and abs(res.lam - self.target) <= 1e-12 * max(1.0, abs(self.target)):
                     self.finish("target")
                 return msg
+            self.assembly.restore_state()
             self.n_cuts += 1
             self.h /= 2.0
             why = res.message if res is not None else "no predictor"
@@ -169,6 +180,24 @@ class PathStepper:
                 self.path_status = "failed"
                 self.message = f"{PATH_STATUS['failed']} Last attempt: {why}"
                 return self.message
+
+    def resume(self, step: float | None = None, target_load_factor: float | None = None) -> None:
+        """Go on with a finished trace: e.g. unload after reaching a target.
+
+        ``step`` replaces the step size (for load and displacement control its sign
+        sets the direction); ``target_load_factor`` is the new target (None: none).
+        The points traced so far, and the material and contact history, are kept.
+        """
+        if self.status == "failed":
+            raise RuntimeError("A failed trace cannot be resumed; start a new one.")
+        if step is not None:
+            if not (np.isfinite(step) and step != 0.0):
+                raise ValueError(f"`step` must be non-zero and finite, got {step!r}.")
+            self.h, self.h_nominal = float(step), abs(float(step))
+            self.min_step = self.h_nominal / 2**MAX_HALVINGS
+        self.target = None if target_load_factor is None else float(target_load_factor)
+        self.status = self.path_status = "running"
+        self.message = PATH_STATUS["running"]
 
     def finish(self, path_status: str) -> None:
         """End the trace with one of :data:`~largerot.results.PATH_STATUS`."""
@@ -190,7 +219,35 @@ class PathStepper:
         res = newton(self.problem, u_pred, lam_pred, constraint, self.u, self.tol, self.tol_u,
                      self.max_iterations)
         self.n_factorizations += res.iterations + 1
+        if res.converged and self.assembly.has_contacts:
+            res = self._settle_contacts(res)
         return res
+
+    def _settle_contacts(self, res: NewtonResult) -> NewtonResult:
+        """Uzawa updates of the contact multipliers at a converged point.
+
+        Each update sets the multipliers to the contact forces and solves the same
+        point again (λ held) until every contact meets the exact conditions to
+        within ``GAP_TOL`` × the structure's size (:mod:`largerot.elements.contact`).
+        """
+        asm, p = self.assembly, self.problem
+        grp = next(g for g in asm.groups if g.kind == "contact")
+        tol_gap = contact.GAP_TOL * p.length_scale
+        iterations = res.iterations
+        for _ in range(contact.MAX_UPDATES):
+            cr = asm.contact_response(p.full(res.u))
+            if contact.converged(cr, tol_gap):
+                return NewtonResult(True, res.u, res.lam, iterations, res.residuals, res.message,
+                                    res.factorization, res.rate)
+            grp.state["lam"] = contact.updated_multipliers(cr)
+            res = newton(p, res.u, res.lam, LoadConstraint(res.lam), self.u, self.tol,
+                         self.tol_u, self.max_iterations)
+            self.n_factorizations += res.iterations + 1
+            iterations += res.iterations
+            if not res.converged:
+                return res
+        return NewtonResult(False, res.u, res.lam, iterations, res.residuals,
+                            f"Contact conditions not met after {contact.MAX_UPDATES} multiplier updates.")
 
     def _crossed(self, lam: float) -> bool:
         t = self.target
@@ -209,8 +266,47 @@ class PathStepper:
         self._record(res)
         self.n_steps += 1
         self._adapt(res)
+        self._events()
         if self._n_negative[-1] != self._n_negative[-2]:
             self._critical_event()
+        self.assembly.commit_state(self.problem.full(self.u))
+        if self.assembly.has_contacts:
+            self.assembly.set_contact_penalty(self._fact, self.problem.full(self.u))
+
+    def _events(self) -> None:
+        """Events between the last two points: first yield, contacts, cables."""
+        ex, i = self._extra, len(self._points_lam) - 2
+        lam_a, lam_b = self._points_lam[i], self._points_lam[i + 1]
+
+        def at(va, vb):          # λ where a linear event function crosses zero
+            t = va / (va - vb) if va != vb else 0.0
+            return lam_a + min(max(t, 0.0), 1.0) * (lam_b - lam_a)
+
+        if "yield_margin" in ex:
+            a, b = float(ex["yield_margin"][-2]), float(ex["yield_margin"][-1])
+            if a < 0.0 <= b:
+                self.events.append(Event("first yield", i, at(a, b)))
+        if "contact_event" in ex:
+            a, b = ex["contact_event"][-2], ex["contact_event"][-1]
+            nodes = self.assembly.contact_nodes
+            lams = self._points_lam
+            # the gap (open side) and the force (closed side) are smooth in λ: the
+            # event is where the one before it, extrapolated from two points, vanishes
+            for kind, hit, f in (("contact closes", (a > 0) & (b <= 0), ex["gap"]),
+                                 ("contact opens", (a <= 0) & (b > 0), ex["contact_force"])):
+                for k in np.flatnonzero(hit):
+                    lam = lam_b
+                    if i >= 1 and f[-3][k] != f[-2][k]:
+                        t = f[-2][k] / (f[-3][k] - f[-2][k])
+                        lam = lams[i] + min(max(t, 0.0), 1.0) * (lams[i] - lams[i - 1]) if t >= 0 else lam_b
+                        lam = min(max(lam, min(lam_a, lam_b)), max(lam_a, lam_b))
+                    self.events.append(Event(kind, i, lam, f"node {nodes[k]}"))
+        if "slack" in ex:
+            a, b = ex["slack"][-2], ex["slack"][-1]
+            bars = np.flatnonzero(self.assembly.cable)
+            for kind, hit in (("cable slack", ~a & b), ("cable taut", a & ~b)):
+                for k in np.flatnonzero(hit):
+                    self.events.append(Event(kind, i, lam_b, f"bar element {bars[k]}"))
 
     def _critical_event(self) -> None:
         """Locate the critical point between the last two points (an event)."""
@@ -272,7 +368,8 @@ class PathStepper:
     def state(self) -> dict:
         """The stepper's state as plain data (arrays and numbers)."""
         return {"u": self.u.copy(), "lam": self.lam, "h": self.h, "status": self.status,
-                "path_status": self.path_status, "n_steps": self.n_steps}
+                "path_status": self.path_status, "n_steps": self.n_steps,
+                "history": self.assembly.state_data()}
 
     def result(self) -> EquilibriumPath:
         """The path traced so far."""
@@ -283,6 +380,7 @@ class PathStepper:
                                np.array(self._points_u), self._iterations, self._residuals,
                                self._n_negative, self.path_status, self.message,
                                critical_points=list(self.critical_points),
+                               events=list(self.events),
                                counters=counters,
                                extra={k: np.array(v) for k, v in self._extra.items()},
                                arc_length=np.array(self._arc))
