@@ -318,3 +318,41 @@ def follower_tip_cantilever(F0, L: float, EI: float, n_nodes: int = 400) -> dict
         guess, p = sol.sol(s), sol.p
     th, M, x, y = sol.sol(L)
     return {"ux": float(x - L), "uy": float(y), "slope": float(th)}
+
+
+def cantilever_on_stop(P: float, gap: float, L: float, EI: float, n_nodes: int = 400) -> dict:
+    """Cantilever along x, dead tip load P downward, tip resting on a frictionless floor.
+
+    Inextensible elastica (common practice, no source): the floor at y = −gap
+    pushes the tip up with R, so the section force is (0, R − P) all along:
+    θ' = M/EI, M' = (P − R)·cos θ, x' = cos θ, y' = sin θ with θ(0) = x(0) = y(0) = 0,
+    M(L) = 0 and y(L) = −gap; R is the unknown parameter (scipy solve_bvp,
+    continued from the small-deflection answer R = P − 3EI·gap/L³).
+
+    Returns
+    -------
+    dict with the floor force ``R`` and the tip's ``ux`` and ``slope``.
+    """
+    from scipy.integrate import solve_bvp
+
+    s = np.linspace(0.0, L, n_nodes)
+    guess = np.zeros((4, n_nodes))
+    guess[2] = s
+    R0 = P - 3.0 * EI * gap / L**3
+    sol = None
+    for f in np.linspace(0.1, 1.0, 10):
+        g = f * gap
+
+        def rhs(s, y, p):
+            return np.vstack([y[1] / EI, (P - p[0]) * np.cos(y[0]), np.cos(y[0]), np.sin(y[0])])
+
+        def bc(ya, yb, p, g=g):
+            return np.array([ya[0], ya[2], ya[3], yb[1], yb[3] + g])
+
+        p0 = [P - 3.0 * EI * g / L**3] if sol is None else sol.p
+        sol = solve_bvp(rhs, bc, s, guess, p=p0, tol=1e-10, max_nodes=100000)
+        if not sol.success:
+            raise RuntimeError(f"cantilever on a stop not solved: {sol.message}")
+        guess = sol.sol(s)
+    th, M, x, y = sol.sol(L)
+    return {"R": float(sol.p[0]), "ux": float(x - L), "slope": float(th), "R_small": R0}

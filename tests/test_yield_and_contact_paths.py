@@ -217,3 +217,39 @@ def test_contact_input_errors_name_the_node():
     s.load(b, fy=-1.0)
     with pytest.raises(lr.ModelError, match="Node 0 starts inside its obstacle|Node 1 starts inside"):
         lr.trace(s, lr.by_load(0.1))
+
+
+def test_cantilever_pressed_far_onto_a_floor_against_the_elastica():
+    # Large gap: the tip meets a floor 0.3·L below after large rotation. Before
+    # contact: the elastica under a dead tip load (Bisshopp & Drucker 1945, via
+    # largerot.closed_form.elastica_tip_load); after: the floor force from scipy's
+    # solve_bvp on the elastica with y(L) = −gap (largerot.closed_form.cantilever_on_stop).
+    # 40 elements, EA large: discretisation O(h²) ≈ 1e-3.
+    from largerot.closed_form import cantilever_on_stop, elastica_tip_load
+
+    L, EI = 1.0, 1.0
+    s = lr.Structure()
+    a, b = s.node(0.0, 0.0), s.node(L, 0.0)
+    s.beam(a, b, lr.Section(E=EI * 1e6, A=1.0, I=1e-6), segments=40)
+    s.fix(a)
+    gap = 0.3 * L
+    s.contact(b, lr.Line(point=(0.0, -gap), normal=(0.0, 1.0)))
+    s.load(b, fy=-1.0)
+    path = lr.trace(s, lr.by_load(0.25), target_load_factor=3.0)
+    assert path.status == "target"
+    lam, v = path.load_factor, path.displacement(b, "uy")
+    free = path.contact_forces[:, 0] == 0.0
+    i = np.flatnonzero(free & (lam > 0))[-1]
+    along, _, _ = elastica_tip_load(lam[i] * L**2 / EI)
+    assert -v[i] == pytest.approx(along * L, rel=2e-3)
+    ref = cantilever_on_stop(3.0, gap, L, EI)
+    assert path.contact_forces[-1, 0] == pytest.approx(ref["R"], rel=2e-3)
+    assert ref["R"] < 0.97 * ref["R_small"] or ref["R"] > 1.03 * ref["R_small"]   # truly nonlinear
+    assert path.displacement(b, "ux")[-1] == pytest.approx(ref["ux"], rel=5e-3)
+
+
+def test_lean_demo_yields_then_touches():
+    from largerot.demo import run_lean_demo
+
+    out = run_lean_demo(png=None)
+    assert "first yield" in out and "contact closes" in out and "licensed" in out

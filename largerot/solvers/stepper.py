@@ -283,9 +283,17 @@ class PathStepper:
             return lam_a + min(max(t, 0.0), 1.0) * (lam_b - lam_a)
 
         if "yield_margin" in ex:
-            a, b = float(ex["yield_margin"][-2]), float(ex["yield_margin"][-1])
+            m = ex["yield_margin"]
+            a, b = float(m[-2]), float(m[-1])
             if a < 0.0 <= b:
-                self.events.append(Event("first yield", i, at(a, b)))
+                # the margin is linear in the strains while elastic: extrapolate it
+                # from the two elastic points before (interpolate at the start)
+                lam = at(a, b)
+                if i >= 1 and float(m[-3]) != a:
+                    t = a / (float(m[-3]) - a)
+                    lam = self._points_lam[i] + t * (self._points_lam[i] - self._points_lam[i - 1])
+                    lam = min(max(lam, min(lam_a, lam_b)), max(lam_a, lam_b))
+                self.events.append(Event("first yield", i, lam))
         if "contact_event" in ex:
             a, b = ex["contact_event"][-2], ex["contact_event"][-1]
             nodes = self.assembly.contact_nodes
