@@ -274,47 +274,40 @@ class PathStepper:
             self.assembly.set_contact_penalty(self._fact, self.problem.full(self.u))
 
     def _events(self) -> None:
-        """Events between the last two points: first yield, contacts, cables."""
-        ex, i = self._extra, len(self._points_lam) - 2
-        lam_a, lam_b = self._points_lam[i], self._points_lam[i + 1]
+        """Events between the last two points: first yield, contacts, cables.
 
-        def at(va, vb):          # λ where a linear event function crosses zero
-            t = va / (va - vb) if va != vb else 0.0
-            return lam_a + min(max(t, 0.0), 1.0) * (lam_b - lam_a)
+        An event function that is smooth on the side before the event (the yield
+        margin while elastic, the gap while open, the contact force while closed) is
+        extrapolated from its two points before it to its zero.
+        """
+        ex, i = self._extra, len(self._points_lam) - 2
+        lam = self._points_lam
+
+        def crossing(f):           # f: the event function's history, last axis points
+            if i < 1 or f[-3] == f[-2]:
+                return lam[i + 1]
+            t = f[-2] / (f[-3] - f[-2])
+            x = lam[i] + t * (lam[i] - lam[i - 1]) if t >= 0 else lam[i + 1]
+            return min(max(x, min(lam[i], lam[i + 1])), max(lam[i], lam[i + 1]))
 
         if "yield_margin" in ex:
-            m = ex["yield_margin"]
-            a, b = float(m[-2]), float(m[-1])
-            if a < 0.0 <= b:
-                # the margin is linear in the strains while elastic: extrapolate it
-                # from the two elastic points before (interpolate at the start)
-                lam = at(a, b)
-                if i >= 1 and float(m[-3]) != a:
-                    t = a / (float(m[-3]) - a)
-                    lam = self._points_lam[i] + t * (self._points_lam[i] - self._points_lam[i - 1])
-                    lam = min(max(lam, min(lam_a, lam_b)), max(lam_a, lam_b))
-                self.events.append(Event("first yield", i, lam))
+            m = [float(v) for v in ex["yield_margin"][-3:]]
+            if m[-2] < 0.0 <= m[-1]:
+                self.events.append(Event("first yield", i, crossing(m)))
         if "contact_event" in ex:
             a, b = ex["contact_event"][-2], ex["contact_event"][-1]
             nodes = self.assembly.contact_nodes
-            lams = self._points_lam
-            # the gap (open side) and the force (closed side) are smooth in λ: the
-            # event is where the one before it, extrapolated from two points, vanishes
             for kind, hit, f in (("contact closes", (a > 0) & (b <= 0), ex["gap"]),
                                  ("contact opens", (a <= 0) & (b > 0), ex["contact_force"])):
                 for k in np.flatnonzero(hit):
-                    lam = lam_b
-                    if i >= 1 and f[-3][k] != f[-2][k]:
-                        t = f[-2][k] / (f[-3][k] - f[-2][k])
-                        lam = lams[i] + min(max(t, 0.0), 1.0) * (lams[i] - lams[i - 1]) if t >= 0 else lam_b
-                        lam = min(max(lam, min(lam_a, lam_b)), max(lam_a, lam_b))
-                    self.events.append(Event(kind, i, lam, f"node {nodes[k]}"))
+                    self.events.append(Event(kind, i, crossing([v[k] for v in f[-3:]]),
+                                             f"node {nodes[k]}"))
         if "slack" in ex:
             a, b = ex["slack"][-2], ex["slack"][-1]
             bars = np.flatnonzero(self.assembly.cable)
             for kind, hit in (("cable slack", ~a & b), ("cable taut", a & ~b)):
                 for k in np.flatnonzero(hit):
-                    self.events.append(Event(kind, i, lam_b, f"bar element {bars[k]}"))
+                    self.events.append(Event(kind, i, lam[i + 1], f"bar element {bars[k]}"))
 
     def _critical_event(self) -> None:
         """Locate the critical point between the last two points (an event)."""
