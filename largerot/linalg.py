@@ -5,6 +5,14 @@ symmetric mode, so P·K·Pᵀ = L·D·Lᵀ in effect and, by Sylvester's law of 
 number of negative pivots (diagonal of U) is the number of negative eigenvalues of K
 (common practice, no source). One factorisation thus serves the Newton solve, the
 stability check and the mechanism check.
+
+Ordering reuse
+    The tangent's sparsity pattern is fixed for a structure, so its fill-reducing
+    ordering (minimum degree on the structure of Kᵀ + K, SuperLU's ``MMD_AT_PLUS_A``)
+    is the same at every iteration. The first factorisation of a pattern records the
+    ordering SuperLU chose; later matrices of that pattern are permuted by one gather
+    of their data (:class:`Ordering`) and factorised with ``permc_spec="NATURAL"``,
+    which skips the ordering step (20–60 % of a factorisation of a beam model).
 """
 from __future__ import annotations
 
@@ -12,11 +20,24 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["Factorization", "factorize", "SingularTangent"]
+__all__ = ["Factorization", "factorize", "SingularTangent", "Ordering", "scaled_norm",
+           "SINGULAR_PIVOT"]
 
-#: A pivot this small next to its matrix diagonal is taken as exactly singular
-#: (round-off level of an eliminated mechanism is ~1e-16 of the diagonal).
-SINGULAR_PIVOT = 1e-14
+#: A pivot below ``SINGULAR_PIVOT · eps · ‖K̃‖₁`` of its matrix diagonal is taken as
+#: exactly singular, K̃ = D^-½·K·D^-½ being K scaled to a unit diagonal (so the test
+#: does not depend on the units of translations and rotations). The pivot ratio of a
+#: true mechanism is round-off, measured at 0.01–11 eps·‖K̃‖₁ for mechanisms of up to
+#: 100,000 beam elements; a genuine pivot of a clamped 8 m pole meshed into 30,000
+#: elements is 96 eps·‖K̃‖₁, of 1,000 elements 1e6. (A few long chains of 10⁴–10⁵
+#: elements have round-off pivots up to 200 eps·‖K̃‖₁: no pivot threshold separates
+#: those from genuine ones; benchmarks/RESULTS.md, conditioning.)
+SINGULAR_PIVOT = 16.0
+#: Sparsity patterns whose ordering is kept (the structures a session alternates
+#: between); each costs about three integer arrays the size of the pattern.
+N_ORDERINGS = 4
+
+_EPS = np.finfo(float).eps
+_SUPERLU_ORDERING = "MMD_AT_PLUS_A"
 
 
 class SingularTangent(ArithmeticError):
@@ -27,8 +48,88 @@ class SingularTangent(ArithmeticError):
         self.dofs = dofs
 
 
+class Ordering:
+    """A fill-reducing symmetric permutation of one CSC sparsity pattern.
+
+    Parameters
+    ----------
+    indptr, indices : ndarray
+        The pattern (canonical CSC: sorted, no duplicates), shape (n + 1,) and (nnz,).
+    perm : ndarray, shape (n,)
+        New position of each DOF (SuperLU's ``perm_c``); ``order`` is its inverse:
+        position k holds DOF ``order[k]``.
+
+    Attributes
+    ----------
+    src : ndarray, shape (nnz,)
+        Data index in the original matrix of each entry of the permuted one, so that
+        ``Kp.data = K.data[src]``.
+    """
+
+    def __init__(self, indptr: np.ndarray, indices: np.ndarray, perm: np.ndarray) -> None:
+        n = len(indptr) - 1
+        self.n = n
+        self.indptr_ref, self.indices_ref = indptr.copy(), indices.copy()
+        self.perm = np.asarray(perm, dtype=np.int64)
+        self.order = np.empty(n, dtype=np.int64)
+        self.order[self.perm] = np.arange(n)
+        # entry e of column j, row i moves to column perm[j], row perm[i]
+        nnz = len(indices)
+        M = sp.csc_matrix((np.arange(1, nnz + 1, dtype=float), indices, indptr), shape=(n, n))
+        Mp = M[self.order][:, self.order].tocsc()
+        Mp.sort_indices()
+        self.src = Mp.data.astype(np.int64) - 1
+        self.indices = Mp.indices.astype(np.int32)
+        self.indptr = Mp.indptr.astype(np.int32)
+
+    def matches(self, K: sp.csc_matrix) -> bool:
+        """True when ``K`` has exactly this pattern."""
+        if K.shape != (self.n, self.n) or K.nnz != len(self.src):
+            return False
+        return (np.array_equal(K.indptr, self.indptr_ref)
+                and np.array_equal(K.indices, self.indices_ref))
+
+    def permuted(self, K: sp.csc_matrix) -> sp.csc_matrix:
+        """P·K·Pᵀ for a matrix of this pattern: entry (order[i], order[j]) of K at (i, j)."""
+        return sp.csc_matrix((K.data[self.src], self.indices, self.indptr), shape=K.shape)
+
+
+_orderings: list[Ordering] = []
+
+
+def _known_ordering(K) -> Ordering | None:
+    if K.format != "csc":
+        return None
+    for i, o in enumerate(_orderings):
+        if o.matches(K):
+            if i:                                    # most recently used first
+                _orderings.insert(0, _orderings.pop(i))
+            return o
+    return None
+
+
+def _remember(K, perm) -> None:
+    if K.format != "csc" or not K.has_canonical_format:
+        return                           # a gather map needs sorted, unique entries
+    _orderings.insert(0, Ordering(K.indptr, K.indices, perm))
+    del _orderings[N_ORDERINGS:]
+
+
+def scaled_norm(K: sp.spmatrix) -> float:
+    """‖D^-½·|K|·D^-½‖₁ with D = |diag K| (zero diagonals count as one)."""
+    K = sp.csc_matrix(K)
+    d = np.abs(K.diagonal())
+    w = 1.0 / np.sqrt(np.where(d > 0, d, 1.0))
+    cols = np.repeat(np.arange(K.shape[1]), np.diff(K.indptr))
+    a = np.abs(K.data) * w[K.indices] * w[cols]
+    return float(np.bincount(cols, weights=a, minlength=K.shape[1]).max(initial=0.0))
+
+
 class Factorization:
     """An LU factorisation of a sparse tangent.
+
+    The pivots and what derives from them are computed when first asked for (a
+    Newton iteration that only solves never pays for them).
 
     Attributes
     ----------
@@ -36,6 +137,10 @@ class Factorization:
         Negative pivots; equals the number of negative eigenvalues when
         ``symmetric`` (otherwise the count is of pivots only and indicative).
     symmetric : bool
+    pivots : ndarray, shape (n,)
+        Diagonal of U, in elimination order.
+    pivot_dof : ndarray, shape (n,)
+        The DOF (index into K) each pivot eliminates.
     pivot_ratio : ndarray, shape (n,)
         |pivot| over the matrix diagonal of the same DOF; a tiny value flags a
         singular direction.
@@ -47,22 +152,53 @@ class Factorization:
         self.K = K            # kept for eigenvalue checks (stability, critical points)
         opts = dict(SymmetricMode=True) if symmetric else {}
         thresh = 0.0 if symmetric else 1.0
+        known = _known_ordering(K) if self.n else None
+        self.order = known.order if known is not None else None
         try:
-            self.lu = spla.splu(K, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=thresh,
-                                options=opts)
+            if known is None:
+                self.lu = spla.splu(K, permc_spec=_SUPERLU_ORDERING, diag_pivot_thresh=thresh,
+                                    options=opts)
+                if self.n:
+                    _remember(K, self.lu.perm_c)
+            else:
+                self.lu = spla.splu(known.permuted(K), permc_spec="NATURAL",
+                                    diag_pivot_thresh=thresh, options=opts)
         except RuntimeError as exc:  # "Factor is exactly singular"
             raise SingularTangent(str(exc)) from None
+        self._pivots = None
+
+    def _compute_pivots(self) -> None:
         pivots = self.lu.U.diagonal()
         if not np.all(np.isfinite(pivots)):
             raise SingularTangent("The factorisation produced non-finite pivots.")
-        self.pivots = pivots
-        diag = np.abs(K.diagonal())
-        order = np.empty_like(self.lu.perm_c)
-        order[self.lu.perm_c] = np.arange(self.n)          # pivot k eliminates DOF order[k]
-        self.pivot_dof = order
+        inner = np.empty_like(self.lu.perm_c)
+        inner[self.lu.perm_c] = np.arange(self.n)          # pivot k eliminates row inner[k]
+        order = inner if self.order is None else self.order[inner]
+        diag = np.abs(self.K.diagonal())
+        self._pivots = pivots
+        self._pivot_dof = order
         with np.errstate(divide="ignore", invalid="ignore"):
-            self.pivot_ratio = np.abs(pivots) / np.where(diag[order] > 0, diag[order], np.inf)
-        self.n_negative = int(np.count_nonzero(pivots < 0.0))
+            self._pivot_ratio = np.abs(pivots) / np.where(diag[order] > 0, diag[order], np.inf)
+
+    @property
+    def pivots(self) -> np.ndarray:
+        if self._pivots is None:
+            self._compute_pivots()
+        return self._pivots
+
+    @property
+    def pivot_dof(self) -> np.ndarray:
+        self.pivots
+        return self._pivot_dof
+
+    @property
+    def pivot_ratio(self) -> np.ndarray:
+        self.pivots
+        return self._pivot_ratio
+
+    @property
+    def n_negative(self) -> int:
+        return int(np.count_nonzero(self.pivots < 0.0))
 
     @property
     def diagonal_pivoting(self) -> bool:
@@ -74,17 +210,29 @@ class Factorization:
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         """Solve K·x = b for one right-hand side (n,) or several (n, m)."""
-        return self.lu.solve(np.asarray(b, dtype=float))
+        b = np.asarray(b, dtype=float)
+        if self.order is None:
+            return self.lu.solve(b)
+        x = np.empty_like(b)
+        x[self.order] = self.lu.solve(b[self.order])
+        return x
 
-    def near_singular_dofs(self, tol: float = SINGULAR_PIVOT) -> np.ndarray:
-        """Free-DOF indices eliminated with a pivot below ``tol`` of their diagonal."""
+    def singular_threshold(self) -> float:
+        """The pivot ratio below which a pivot counts as exactly singular."""
+        return SINGULAR_PIVOT * _EPS * scaled_norm(self.K)
+
+    def near_singular_dofs(self, tol: float | None = None) -> np.ndarray:
+        """Free-DOF indices eliminated with a pivot ratio below ``tol``
+        (default :meth:`singular_threshold`)."""
+        tol = self.singular_threshold() if tol is None else tol
         return self.pivot_dof[self.pivot_ratio < tol]
 
 
 def factorize(K: sp.csc_matrix, symmetric: bool = True) -> Factorization:
     """Factorise a tangent; raise :class:`SingularTangent` if it is singular."""
     F = Factorization(K, symmetric)
-    if F.n and np.count_nonzero(F.pivot_ratio < SINGULAR_PIVOT):
-        raise SingularTangent("The tangent is singular to working precision.",
-                              F.near_singular_dofs())
+    if F.n:
+        dofs = F.near_singular_dofs()
+        if len(dofs):
+            raise SingularTangent("The tangent is singular to working precision.", dofs)
     return F

@@ -131,7 +131,8 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         du = du_r + dlam * du_F
         step = max(problem.norm(u - u_start), 1e-300)
         corr = problem.norm(du) / step
-        at_floor = (k > 0 and ratio > FLOOR_STALL * history[-2]
+        # (the round-off level costs a pass over K: only estimated when it can decide)
+        at_floor = (ratio > tol and corr <= tol_u and k > 0 and ratio > FLOOR_STALL * history[-2]
                     and ratio * scale <= FLOOR_FACTOR * np.finfo(float).eps
                     * float(np.linalg.norm(abs(K) @ abs(u))))
         if ((ratio <= tol or at_floor) and corr <= tol_u) or (
