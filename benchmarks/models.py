@@ -112,15 +112,17 @@ def snap_back_frame(segments: int = 10):
 
 
 def catenary(segments: int = 40):
-    """A cable hung between two supports 20 m apart with 2 % extra length, if the model has cables.
+    """A steel rope hung between two supports 20 m apart with 2 % extra length, under its
+    own weight (constant, settled at the start), and a point load at mid-span traced.
 
     Returns ``(structure, middle node)``; raises AttributeError when ``Structure.cable``
     does not exist and TypeError when its signature differs from the one assumed here.
     """
     s = lr.Structure()
+    s.gravity()
     a, b = s.node(0.0, 0.0), s.node(20.0, 0.0)
     rope = lr.Section.rod(E=100e9, diameter=0.02, density=7850.0)
-    m = s.cable(a, b, rope, segments=segments, length=20.4)
+    m = s.cable(a, b, rope, segments=segments, unstretched_length=20.4)
     s.fix(a, "ux", "uy")
     s.fix(b, "ux", "uy")
     mid = m.nodes[len(m.nodes) // 2]
