@@ -88,9 +88,9 @@ def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     """The demo pole that yields and leans: returns ``(structure, nodes, wall)``.
 
     Steel tube 200 × 8 mm (fy = 355 MPa, bilinear fibres hardening at 1 % of E), 10 m
-    tall, clamped; the rigid face of a neighbouring building 1.2 m away, which the
-    pole may touch between 5 and 8 m up (a balcony slab's edge); the reference load
-    ``lateral_load`` pushes the top toward it.
+    tall, clamped; the rigid wall of a neighbouring building 1.2 m away and 8 m high,
+    which the pole may touch between 5 m and the wall's top; the reference load
+    ``lateral_load`` pushes the top toward it, and above the wall the pole bends over.
     """
     from .elements.contact import Line
     from .fibres import FibreSection

@@ -100,12 +100,43 @@ def plot_shape(path_or_structure, i: int = -1, ax=None, ghost: bool = True,
             ax.annotate("", xy=xy[n], xytext=xy[n] - d,
                         arrowprops=dict(arrowstyle="-|>", color=LOAD, lw=1.8))
     lo, hi = allxy.min(axis=0) - 0.08 * size, allxy.max(axis=0) + 0.08 * size
+    _draw_obstacles(ax, s, lo, hi)
     ax.set_xlim(lo[0], hi[0])
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
     ax.set_xlabel("x")
     ax.set_ylabel("y")
     return ax
+
+
+def _draw_obstacles(ax, s, lo, hi) -> None:
+    """Rigid obstacles of the structure's contacts: a hatched face, a filled disc."""
+    from matplotlib.patches import Circle as Disc
+
+    pairs = s.contact_table()
+    seen = []
+    for _, ob in pairs:
+        if any(ob is o for o in seen):
+            continue
+        seen.append(ob)
+        nodes = [n for n, o in pairs if o is ob]
+        if hasattr(ob, "radius"):
+            ax.add_patch(Disc(ob.centre, ob.radius, facecolor="0.85", edgecolor=SUPPORT,
+                              hatch="////", lw=1.2, zorder=1))
+            continue
+        p, n = np.array(ob.point), np.array(ob.normal)
+        t_ = np.array([-n[1], n[0]])
+        span = float(np.hypot(*(hi - lo)))
+        # the face where its nodes can meet it (their undeformed positions projected
+        # on it; a little more for a single node), hatched on the solid side
+        proj = (s.xy[nodes] - p) @ t_
+        pad = 0.05 * span if np.ptp(proj) == 0 else 0.0
+        k = np.linspace(proj.min() - pad, proj.max() + pad, 40)
+        base = p + k[:, None] * t_
+        ax.plot(base[[0, -1], 0], base[[0, -1], 1], color=SUPPORT, lw=1.6, zorder=1)
+        tips = base - 0.02 * span * (n + t_)
+        for q, r in zip(base, tips):
+            ax.plot([q[0], r[0]], [q[1], r[1]], color=SUPPORT, lw=0.8, zorder=1)
 
 
 def path_segments(x: np.ndarray, lam: np.ndarray, stable: np.ndarray):

@@ -253,3 +253,19 @@ def test_lean_demo_yields_then_touches():
 
     out = run_lean_demo(png=None)
     assert "first yield" in out and "contact closes" in out and "licensed" in out
+
+
+def test_obstacles_are_drawn_with_the_shape():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    s, tip = cantilever_and_stop(2e-3)
+    s.contact(tip, lr.Circle(centre=(1.0, 1.0), radius=0.2))
+    from matplotlib.patches import Circle as Disc
+
+    ax = lr.plotting.plot_shape(s)
+    assert sum(isinstance(p, Disc) for p in ax.patches) == 1   # the round stop
+    assert len(ax.lines) > 20                          # the face and its hatching
+    plt.close(ax.figure)
