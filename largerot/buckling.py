@@ -156,7 +156,7 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     if not isinstance(structure, Structure):
         raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
     asm = Assembly.of(structure)
-    F = asm.F_ref[asm.free]
+    F = asm.external(np.zeros(asm.n_dof))[0][asm.free]      # follower loads as at rest
     if not F.any():
         raise ModelError("Linear buckling needs a reference load; the structure has none.")
     n = asm.n_free
@@ -167,6 +167,11 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     except RuntimeError:
         raise ModelError("The unloaded structure is a mechanism: its stiffness is singular.") from None
     Ks = geometric_stiffness(asm, asm.expand(u1))
+    if asm.has_followers:
+        # follower loads: their load stiffness −∂F/∂u per unit λ joins Kσ
+        _, KL, _, _ = asm.evaluate(np.zeros(asm.n_dof), True, lam=1.0, const_factor=0.0)
+        Ks = (Ks + (KL - K0)).tocsc()
+        return _nonsymmetric(structure, asm, K0, Ks, modes)
     if n <= DENSE_MAX:
         try:
             mu, v = sla.eigh(-Ks.toarray(), K0.toarray())
@@ -180,6 +185,22 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     keep = keep[np.argsort(-mu[keep])][:modes]
     lams = 1.0 / mu[keep]
     shapes = np.array([_unit_mode(asm.expand(v[:, k])) for k in keep]).reshape(len(keep), asm.n_dof)
+    return Buckling(structure, lams, shapes)
+
+
+def _nonsymmetric(structure, asm, K0, Ks, modes: int) -> Buckling:
+    """Real positive critical load factors of a non-symmetric (K0 + λ·Ks)·φ = 0."""
+    n = asm.n_free
+    if n <= DENSE_MAX:
+        mu, v = sla.eig(-Ks.toarray(), K0.toarray())
+    else:
+        mu, v = spla.eigs(-Ks, k=min(modes + 4, n - 2), M=K0.tocsc(), which="LR")
+    real = np.abs(mu.imag) <= 1e-8 * np.maximum(np.abs(mu.real), 1e-300)
+    tiny = 1e-12 * max(float(np.abs(mu).max()), 1e-300)
+    keep = np.flatnonzero(real & (mu.real > tiny))
+    keep = keep[np.argsort(-mu.real[keep])][:modes]
+    lams = 1.0 / mu.real[keep]
+    shapes = np.array([_unit_mode(asm.expand(np.real(v[:, k]))) for k in keep]).reshape(len(keep), asm.n_dof)
     return Buckling(structure, lams, shapes)
 
 

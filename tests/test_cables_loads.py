@@ -113,6 +113,10 @@ def test_ring_under_hydrostatic_pressure_buckles_at_3EI_over_R3():
     cp = path.critical_points[0]
     assert cp.kind == "bifurcation"
     assert cp.load_factor == pytest.approx(1.0, rel=1e-2)
+    # linear buckling with the pressure's load stiffness gives the same; without it
+    # (a dead load pointing at the centre, as the load stands at rest) it would not
+    res = lr.buckling(s, modes=1)
+    assert res.load_factors[0] == pytest.approx(1.0, rel=1e-2)
 
 
 def _fd_tangent(structure, u, lam, h=1e-6):
