@@ -72,16 +72,7 @@ def run_mast_demo(png: str | None = "largerot-mast.png") -> str:
     if slack.any():
         i = int(np.argmax(slack))
         lines.append(f"the leeward guy is slack from load {10.0 * path.load_factor[i]:.2f} kN on")
-    lines.append(f"status: {path.status} ({path.message})")
-    if png:
-        import matplotlib
-        matplotlib.use("Agg")
-        from .plotting import plot_overview
-        fig = plot_overview(path, top, "ux")
-        fig.savefig(png, dpi=110)
-        lines.append(f"figure written to {png}")
-    lines.append(CAUTION)
-    return "\n".join(lines)
+    return _report(lines, path, top, png)
 
 
 def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
@@ -124,12 +115,17 @@ def run_lean_demo(png: str | None = "largerot-lean.png") -> str:
                      f" {path.contact_forces[i].sum() / 1e3:16.2f} {path.yielded[i, 0, 0]:13.0%}")
     for e in path.events:
         lines.append(f"{e.kind} at load {10.0 * e.load_factor:.2f} kN {e.detail}".rstrip())
+    return _report(lines, path, top, png)
+
+
+def _report(lines: list, path, node: int, png: str | None) -> str:
+    """End a demo's table: status, the figure (shapes beside the path of ``node``'s ux), caution."""
     lines.append(f"status: {path.status} ({path.message})")
     if png:
         import matplotlib
         matplotlib.use("Agg")
         from .plotting import plot_overview
-        fig = plot_overview(path, top, "ux")
+        fig = plot_overview(path, node, "ux")
         fig.savefig(png, dpi=110)
         lines.append(f"figure written to {png}")
     lines.append(CAUTION)
@@ -150,13 +146,4 @@ def run_demo(png: str | None = "largerot-demo.png") -> str:
     for i in range(0, len(path), 4):
         lines.append(f"{4.0 * path.load_factor[i]:10.3f} {path.displacement(top, 'ux')[i]:11.4f}"
                      f" {path.displacement(top, 'uy')[i]:11.4f} {path.iterations[i]:11d}")
-    lines.append(f"status: {path.status} ({path.message})")
-    if png:
-        import matplotlib
-        matplotlib.use("Agg")
-        from .plotting import plot_overview
-        fig = plot_overview(path, top, "ux")
-        fig.savefig(png, dpi=110)
-        lines.append(f"figure written to {png}")
-    lines.append(CAUTION)
-    return "\n".join(lines)
+    return _report(lines, path, top, png)

@@ -38,7 +38,7 @@ from typing import NamedTuple, Sequence
 
 import numpy as np
 
-from .errors import ModelError
+from .errors import ModelError, checked_number
 from .materials import Bilinear, MaterialState, initial_state, return_map
 
 __all__ = ["FibreSection", "FibreTable", "SectionResponse", "response", "stack",
@@ -126,13 +126,7 @@ def _count(name: str, n, minimum: int) -> int:
 
 
 def _positive(name: str, value) -> float:
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise ModelError(f"Section `{name}` must be a number, got {value!r}.") from None
-    if not math.isfinite(value) or value <= 0.0:
-        raise ModelError(f"Section `{name}` must be a finite positive number, got {value!r}.")
-    return value
+    return checked_number("Section", name, value, positive=True)
 
 
 def _rect_layers(y_lo: float, y_hi: float, width: float, n: int):

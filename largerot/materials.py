@@ -33,13 +33,12 @@ Examples
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
 
-from .errors import ModelError
+from .errors import checked_number
 
 __all__ = ["Bilinear", "MaterialState", "return_map", "initial_state", "yielding"]
 
@@ -101,14 +100,7 @@ def yielding(trial: MaterialState, committed: MaterialState) -> np.ndarray:
 
 
 def _check(name: str, value, *, positive: bool) -> float:
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise ModelError(f"Material `{name}` must be a number, got {value!r}.") from None
-    if not math.isfinite(value) or value < 0.0 or (positive and value == 0.0):
-        kind = "positive" if positive else "non-negative"
-        raise ModelError(f"Material `{name}` must be a finite {kind} number, got {value!r}.")
-    return value
+    return checked_number("Material", name, value, positive=positive)
 
 
 @dataclass(frozen=True)

@@ -4,20 +4,13 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .errors import ModelError
+from .errors import ModelError, checked_number
 
 __all__ = ["Section"]
 
 
-def _check(name: str, value: float, *, positive: bool) -> float:
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise ModelError(f"Section `{name}` must be a number, got {value!r}.") from None
-    if not math.isfinite(value) or value < 0.0 or (positive and value == 0.0):
-        kind = "positive" if positive else "non-negative"
-        raise ModelError(f"Section `{name}` must be a finite {kind} number, got {value!r}.")
-    return value
+def _check(name: str, value, *, positive: bool) -> float:
+    return checked_number("Section", name, value, positive=positive)
 
 
 @dataclass(frozen=True)

@@ -119,20 +119,7 @@ def test_ring_under_hydrostatic_pressure_buckles_at_3EI_over_R3():
     assert res.load_factors[0] == pytest.approx(1.0, rel=1e-2)
 
 
-def _fd_tangent(structure, u, lam, h=1e-6):
-    asm = Assembly(structure)
-    p = Problem(asm)
-    r0, K, _ = p.residual(u, lam)
-    J = np.zeros_like(K.toarray())
-    for j in range(len(u)):
-        e = np.zeros_like(u)
-        e[j] = h
-        J[:, j] = -(p.residual(u + e, lam, tangent=False)[0]
-                    - p.residual(u - e, lam, tangent=False)[0]) / (2 * h)
-    return K.toarray(), J, p
-
-
-def test_tangent_includes_the_load_stiffness_of_follower_loads():
+def test_tangent_includes_the_load_stiffness_of_follower_loads(fd_jacobian):
     # The tangent must be the derivative of the residual (common practice, no
     # source), here with a follower tip force, a pressure on beams and on a bar,
     # constant and scaled parts, at a deformed state. Central differences: error
@@ -151,7 +138,8 @@ def test_tangent_includes_the_load_stiffness_of_follower_loads():
     rng = np.random.default_rng(3)
     n = Assembly(s).n_free
     u = 0.3 * rng.standard_normal(n)
-    K, J, p = _fd_tangent(s, u, 1.7)
+    p = Problem(Assembly(s))
+    K, J = fd_jacobian(p, u, 1.7, h=1e-6)
     assert not p.symmetric
     assert np.abs(K - K.T).max() > 1e-3          # the load stiffness is not symmetric
     np.testing.assert_allclose(K, J, atol=1e-6 * np.abs(K).max())

@@ -1,6 +1,5 @@
 """Widgets without a browser: synced state, live stepping, errors shown, export."""
 import re
-import time
 
 import numpy as np
 import pytest

@@ -5,7 +5,6 @@ import numpy as np
 import pytest
 
 import largerot as lr
-from largerot.assembly import Assembly
 from largerot.elements import contact
 from largerot.solvers.problem import Problem
 
@@ -172,7 +171,7 @@ def test_pole_leans_on_a_round_stop_at_large_rotation():
     assert R[3 * a + 1] + p * n[1] == pytest.approx(0.0, abs=1e-6 * 2.0e3)
 
 
-def test_global_tangent_with_yielded_fibres_and_active_contact():
+def test_global_tangent_with_yielded_fibres_and_active_contact(fd_jacobian):
     # The tangent must be the derivative of the residual (common practice, no
     # source) in a state with plastic history and a closed contact. Central
     # differences: truncation O(h²); h is small against the strain increments so no
@@ -191,15 +190,7 @@ def test_global_tangent_with_yielded_fibres_and_active_contact():
     asm = st.assembly
     p = Problem(asm)
     u0 = st.u + 1e-5 * np.random.default_rng(1).standard_normal(len(st.u))
-    _, K, _ = p.residual(u0, st.lam)
-    K = K.toarray()
-    h = 1e-9
-    J = np.empty_like(K)
-    for j in range(len(u0)):
-        e = np.zeros_like(u0)
-        e[j] = h
-        J[:, j] = -(p.residual(u0 + e, st.lam, tangent=False)[0]
-                    - p.residual(u0 - e, st.lam, tangent=False)[0]) / (2 * h)
+    K, J = fd_jacobian(p, u0, st.lam, h=1e-9)
     np.testing.assert_allclose(K, J, atol=1e-5 * np.abs(K).max())
 
 

@@ -17,7 +17,6 @@ import numpy as np
 import traitlets as t
 
 from ..model import DOFS
-from . import data
 from ._errors import shown_in_widget, show_error
 from .explorer import Explorer
 
