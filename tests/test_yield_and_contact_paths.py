@@ -260,3 +260,22 @@ def test_obstacles_are_drawn_with_the_shape():
     assert sum(isinstance(p, Disc) for p in ax.patches) == 1   # the round stop
     assert len(ax.lines) > 20                          # the face and its hatching
     plt.close(ax.figure)
+
+
+def test_arc_length_goes_on_once_a_stop_takes_the_load():
+    # Once the tip rests on the stop, more load barely moves the structure: the
+    # trace must go on (corrections judged against a floor, not a vanishing step)
+    # and the stop's force follow small-deflection superposition, R = P − 3EI·δ0/L³
+    # (common practice, no source).
+    L, gap = 3.0, 2e-3
+    s, tip = cantilever_and_stop(gap, L)
+    EI = E * B * H**3 / 12
+    P_touch = 3 * EI * gap / L**3
+    s.load(tip, fy=-P_touch)
+    path = lr.trace(s, lr.by_arc_length(constraint="spherical"), max_steps=200,
+                    stop=lambda p: p.load_factor > 3.0)
+    assert path.status == "stopped"
+    after = path.load_factor > 1.001
+    assert after.sum() >= 3
+    np.testing.assert_allclose(path.contact_forces[after, 0],
+                               (path.load_factor[after] - 1.0) * P_touch, rtol=1e-4)

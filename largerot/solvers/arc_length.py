@@ -10,15 +10,17 @@ Constraints (see :mod:`largerot.solvers.constraints` for the metric):
                    (Ramm 1981).
 
 Predictor: the tangent δu_F = K⁻¹F at the last point, scaled to length Δl. Its sense
-follows the path: **the new increment has a positive inner product (same metric) with
-the previous increment** (common practice, no source; the rule of Crisfield 1991,
+follows the path: **the new increment has a positive inner product with the previous
+increment** (in the metric with ψ = 1, whatever the constraint's ψ, so that λ counts
+when u hardly moves) (common practice, no source; the rule of Crisfield 1991,
 vol. 1, §9.4.2 in spirit). Unlike the sign of det K it stays right through limit
 points, snap-back and bifurcations. The first step goes toward increasing λ, or
 decreasing λ for a negative ``step``.
 
 First step (``step=None``): from the linear response u1 = K⁻¹F at the start, λ_c is
 the smaller of the load factor at which |u1|·λ reaches ``GEOMETRIC_SHARE`` of the
-structure's size and the lowest linear buckling factor; the first step then moves
+structure's size, the lowest linear buckling factor, and the load factors at which
+the linear response would close a contact or first yield; the first step then moves
 λ by λ_c/``AUTO_STEPS`` on the linear path. No knowledge of the norm is needed.
 
 Step adaptation (Ramm 1981): Δl ← Δl·(I_d/I)^½ after a point that took I iterations,
@@ -107,6 +109,7 @@ class ArcLengthStepper(PathStepper):
         self.desired_iterations = int(desired_iterations)
         self.follow, self.branch_sign = follow, int(branch_sign)
         self.metric = Metric(p.weights**2, (self.psi * self.lam_scale)**2)
+        self._sense_metric = Metric(p.weights**2, self.lam_scale**2)
         self.direction = 1.0 if step is None or step > 0 else -1.0
         dl0 = abs(float(step)) if step is not None else self._auto_step()
         self.h = self.h_nominal = dl0
@@ -129,10 +132,25 @@ class ArcLengthStepper(PathStepper):
         trans = p.assembly.free % 3 != 2
         peak = float(np.abs(u1[trans]).max()) if trans.any() else float(np.abs(u1).max())
         lam_c = GEOMETRIC_SHARE * p.length_scale / peak if peak > 0 else np.inf
-        lam_c = min(lam_c, self._buckling_estimate())
+        lam_c = min(lam_c, self._buckling_estimate(), self._event_estimate(u1))
         if not np.isfinite(lam_c) or lam_c <= 0.0:
             lam_c = 1.0
         return lam_c / AUTO_STEPS * self.metric.norm(u1, 1.0)
+
+    def _event_estimate(self, u1) -> float:
+        """Smallest λ at which the linear response closes a contact or first yields."""
+        asm = self.problem.assembly
+        out = np.inf
+        if asm.has_contacts:
+            g0 = asm.contact_response(np.zeros(asm.n_dof)).g
+            g1 = asm.contact_response(asm.expand(u1)).g
+            closing = g1 < g0
+            if closing.any():
+                out = min(out, float(np.min(g0[closing] / (g0[closing] - g1[closing]))))
+        m1 = asm.point_data(asm.expand(u1)).get("yield_margin")
+        if m1 is not None and float(m1) > -1.0:
+            out = min(out, 1.0 / (float(m1) + 1.0))    # the margin is E·|ε|/fy − 1, linear in λ
+        return out
 
     def _buckling_estimate(self) -> float:
         from ..buckling import buckling
@@ -160,7 +178,9 @@ class ArcLengthStepper(PathStepper):
         if prev is None:
             sense = self.direction
         else:
-            sense = 1.0 if m.dot(prev[0], prev[1], v, 1.0) >= 0.0 else -1.0
+            # λ always counts here (ψ = 1 even for the cylinder): when a stop takes
+            # the load, u hardly moves and its increment alone carries no sense
+            sense = 1.0 if self._sense_metric.dot(prev[0], prev[1], v, 1.0) >= 0.0 else -1.0
         dlam = sense * h / norm
         u_pred, lam_pred = self.u + dlam * v, self.lam + dlam
         if self.constraint in ("cylindrical", "spherical"):

@@ -12,7 +12,8 @@ Convergence (both must hold):
 * residual: |r| ≤ tol · max(internal force level, |applied load|);
 * displacement: the next correction K⁻¹r, which is computed anyway because the
   factorisation at the converged point serves the next predictor and the stability
-  check, is at most ``tol_u`` of the step's increment (weighted norm).
+  check, is at most ``tol_u`` of the step's increment (weighted norm), or of
+  ``INCREMENT_FLOOR`` × the structure's size when the step hardly moves u.
 
 Round-off floor: internal forces come from strains that are differences of nodal
 displacements, so f_int(u) carries an error of about eps·|K|·|u| (the change of f
@@ -36,6 +37,9 @@ __all__ = ["NewtonResult", "newton", "LoadConstraint", "DisplacementConstraint"]
 STAGNATION = 1e-13
 #: ... provided the residual is still small in absolute terms.
 STAGNATION_RESIDUAL = 1e-6
+#: Smallest increment (share of the structure's size) that corrections are measured
+#: against: far below any displacement of interest, far above round-off.
+INCREMENT_FLOOR = 1e-9
 #: Multiple of the round-off level eps·‖|K|·|u|‖ taken as "at the floor"
 #: (measured residuals stagnate at 0.1–0.5 of that level).
 FLOOR_FACTOR = 4.0
@@ -129,7 +133,9 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
             return NewtonResult(False, u, lam, k, np.array(history),
                                 "The constraint equation has no solution at this trial point.")
         du = du_r + dlam * du_F
-        step = max(problem.norm(u - u_start), 1e-300)
+        # a step that barely moves u (load taken by a stop) is judged on a floor of
+        # INCREMENT_FLOOR × the structure's size, not on its own vanishing increment
+        step = max(problem.norm(u - u_start), INCREMENT_FLOOR * problem.length_scale, 1e-300)
         corr = problem.norm(du) / step
         # (the round-off level costs a pass over K: only estimated when it can decide)
         at_floor = (ratio > tol and corr <= tol_u and k > 0 and ratio > FLOOR_STALL * history[-2]
