@@ -279,3 +279,23 @@ def test_arc_length_goes_on_once_a_stop_takes_the_load():
     assert after.sum() >= 3
     np.testing.assert_allclose(path.contact_forces[after, 0],
                                (path.load_factor[after] - 1.0) * P_touch, rtol=1e-4)
+
+
+def test_arc_length_through_the_plastic_collapse_plateau():
+    # By arc length with no tuning: first yield at My/Mp = 2/3 of the collapse load
+    # and a plateau at P ≈ Mp/L (plastic-hinge theory, Neal 1977, from memory; 20
+    # elements: the hinge spread over one element, within 3 %), the path going on
+    # past it without turning back (increments keep a positive inner product).
+    L = 2.0
+    s, m, tip = beam_on_supports("cantilever", L, segments=20)
+    s.load(tip, fy=-MP / L)
+    EI = E * B * H**3 / 12
+    d_c = MP / L * L**3 / (3 * EI)                # elastic deflection at the collapse load
+    path = lr.trace(s, lr.by_arc_length(), max_steps=200,
+                    stop=lambda p: -p.displacement(tip, "uy") > 3 * d_c)
+    assert path.status == "stopped"
+    v = -path.displacement(tip, "uy")
+    assert np.all(np.diff(v) > 0) and np.all(np.diff(path.arc_length) > 0)
+    assert np.interp(2 * d_c, v, path.load_factor) == pytest.approx(1.0, rel=3e-2)
+    first = [e.load_factor for e in path.events if e.kind == "first yield"]
+    assert first == [pytest.approx(2 / 3, rel=5e-3)]
