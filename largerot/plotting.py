@@ -100,7 +100,7 @@ def plot_shape(path_or_structure, i: int = -1, ax=None, ghost: bool = True,
             ax.annotate("", xy=xy[n], xytext=xy[n] - d,
                         arrowprops=dict(arrowstyle="-|>", color=LOAD, lw=1.8))
     lo, hi = allxy.min(axis=0) - 0.08 * size, allxy.max(axis=0) + 0.08 * size
-    _draw_obstacles(ax, s, lo, hi)
+    _draw_obstacles(ax, s)
     ax.set_xlim(lo[0], hi[0])
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal")
@@ -109,33 +109,55 @@ def plot_shape(path_or_structure, i: int = -1, ax=None, ghost: bool = True,
     return ax
 
 
-def _draw_obstacles(ax, s, lo, hi) -> None:
-    """Rigid obstacles of the structure's contacts: a hatched face, a filled disc."""
-    from matplotlib.patches import Circle as Disc
+def obstacle_outlines(s) -> list:
+    """Rigid obstacles of a structure's contacts as plain drawing data.
 
+    A line is the stretch of its face that its nodes can meet (their undeformed
+    positions projected on it; a little more for a single node):
+    ``{"kind": "line", "a": (x, y), "b": (x, y), "normal": (nx, ny)}``, the normal
+    pointing to the free side; a circle is ``{"kind": "circle", "centre", "radius"}``.
+    """
     pairs = s.contact_table()
-    seen = []
+    if not pairs:
+        return []
+    xy = s.xy
+    size = float(np.ptp(xy, axis=0).max()) or 1.0
+    out, seen = [], []
     for _, ob in pairs:
         if any(ob is o for o in seen):
             continue
         seen.append(ob)
-        nodes = [n for n, o in pairs if o is ob]
         if hasattr(ob, "radius"):
-            ax.add_patch(Disc(ob.centre, ob.radius, facecolor="0.85", edgecolor=SUPPORT,
-                              hatch="////", lw=1.2, zorder=1))
+            out.append({"kind": "circle", "centre": tuple(map(float, ob.centre)),
+                        "radius": float(ob.radius)})
             continue
+        nodes = [n for n, o in pairs if o is ob]
         p, n = np.array(ob.point), np.array(ob.normal)
         t_ = np.array([-n[1], n[0]])
-        span = float(np.hypot(*(hi - lo)))
-        # the face where its nodes can meet it (their undeformed positions projected
-        # on it; a little more for a single node), hatched on the solid side
-        proj = (s.xy[nodes] - p) @ t_
-        pad = 0.05 * span if np.ptp(proj) == 0 else 0.0
-        k = np.linspace(proj.min() - pad, proj.max() + pad, 40)
-        base = p + k[:, None] * t_
-        ax.plot(base[[0, -1], 0], base[[0, -1], 1], color=SUPPORT, lw=1.6, zorder=1)
-        tips = base - 0.02 * span * (n + t_)
-        for q, r in zip(base, tips):
+        proj = (xy[nodes] - p) @ t_
+        pad = 0.05 * size if np.ptp(proj) == 0 else 0.0
+        a, b = p + (proj.min() - pad) * t_, p + (proj.max() + pad) * t_
+        out.append({"kind": "line", "a": tuple(map(float, a)), "b": tuple(map(float, b)),
+                    "normal": tuple(map(float, n))})
+    return out
+
+
+def _draw_obstacles(ax, s) -> None:
+    """Draw the structure's obstacles: a hatched face, a hatched disc."""
+    from matplotlib.patches import Circle as Disc
+
+    for ob in obstacle_outlines(s):
+        if ob["kind"] == "circle":
+            ax.add_patch(Disc(ob["centre"], ob["radius"], facecolor="0.85", edgecolor=SUPPORT,
+                              hatch="////", lw=1.2, zorder=1))
+            continue
+        a, b, n = (np.array(ob[k]) for k in ("a", "b", "normal"))
+        ax.plot([a[0], b[0]], [a[1], b[1]], color=SUPPORT, lw=1.6, zorder=1)
+        length = float(np.hypot(*(b - a)))
+        t_ = (b - a) / length
+        h = 0.02 * (float(np.ptp(s.xy, axis=0).max()) or 1.0)
+        for q in a + np.linspace(0.0, 1.0, max(int(length / h), 2))[:, None] * (b - a):
+            r = q - h * (n + t_)                       # hatching on the solid side
             ax.plot([q[0], r[0]], [q[1], r[1]], color=SUPPORT, lw=0.8, zorder=1)
 
 

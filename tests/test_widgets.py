@@ -335,3 +335,22 @@ def test_critical_points_reach_the_plot_data_and_the_figure():
     ax = plotting.plot_path(path, apex, "uy")
     labels = [t.get_text() for t in ax.texts]
     assert labels == [f"limit\nλ = {path.load_factor[k]:.4g}"]
+
+
+def test_obstacles_reach_the_canvas_as_plain_data():
+    # what the browser draws: a face where the nodes can meet it, and a disc
+    s = lr.Structure()
+    a, b = s.node(0.0, 0.0), s.node(0.0, 4.0)
+    pole = s.beam(a, b, lr.Section(E=1e9, A=1e-2, I=1e-5), segments=8)
+    s.fix(a)
+    s.load(b, fx=1.0)
+    s.contact([n for n in pole.nodes if s.xy[n, 1] >= 2.0], lr.Line(point=(1.0, 0.0), normal=(-1.0, 0.0)))
+    s.contact(b, lr.Circle(centre=(0.0, 5.0), radius=0.5))
+    path = lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+    ex = lr.widgets.explore(path)
+    obs = ex.canvas.symbols["obstacles"]
+    assert [o["kind"] for o in obs] == ["line", "circle"]
+    ends = sorted([tuple(obs[0]["a"]), tuple(obs[0]["b"])])
+    assert ends == [pytest.approx((1.0, 2.0)), pytest.approx((1.0, 4.0))]
+    assert obs[0]["normal"] == pytest.approx((-1.0, 0.0))
+    assert obs[1]["radius"] == 0.5

@@ -162,6 +162,32 @@ function render({ model, el }) {
     ctx.restore();
   }
 
+  function obstacle(ctx, g, o) {
+    // a rigid obstacle of a contact: a face hatched on its solid side, or a disc
+    ctx.save();
+    ctx.strokeStyle = COLORS.support; ctx.lineWidth = 1.5;
+    if (o.kind === "circle") {
+      const [cx, cy] = o.centre;
+      const r = Math.abs(g.X(cx + o.radius) - g.X(cx));
+      ctx.fillStyle = "#dddddd";
+      ctx.beginPath(); ctx.arc(g.X(cx), g.Y(cy), r, 0, 2 * Math.PI); ctx.fill(); ctx.stroke();
+    } else {
+      const ax = g.X(o.a[0]), ay = g.Y(o.a[1]), bx = g.X(o.b[0]), by = g.Y(o.b[1]);
+      const len = Math.hypot(bx - ax, by - ay) || 1;
+      const tx = (bx - ax) / len, ty = (by - ay) / len;
+      const nx = o.normal[0], ny = -o.normal[1];          // screen y points down
+      ctx.beginPath(); ctx.moveTo(ax, ay); ctx.lineTo(bx, by);
+      ctx.lineWidth = 0.8;
+      for (let s = 0; s <= len; s += 6) {
+        const qx = ax + s * tx, qy = ay + s * ty;
+        ctx.moveTo(qx, qy); ctx.lineTo(qx - 5 * (nx + tx), qy - 5 * (ny + ty));
+      }
+      ctx.stroke();
+      ctx.lineWidth = 1.5; ctx.beginPath(); ctx.moveTo(ax, ay); ctx.lineTo(bx, by); ctx.stroke();
+    }
+    ctx.restore();
+  }
+
   function drawLayer(g) {
     const dpr = window.devicePixelRatio || 1;
     layer.width = g.W * dpr; layer.height = g.H * dpr;
@@ -176,6 +202,7 @@ function render({ model, el }) {
       strokes(ctx, g, d.ghost, 0); ctx.restore();
     }
     for (const s of d.symbols.supports || []) support(ctx, g.X(s.x), g.Y(s.y), s.held);
+    for (const o of d.symbols.obstacles || []) obstacle(ctx, g, o);
     // the path plot: grid, ticks, labels
     const [px, py, pw, ph] = g.plot;
     ctx.font = "11px sans-serif"; ctx.fillStyle = COLORS.axis; ctx.textAlign = "center";

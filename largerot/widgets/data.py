@@ -16,6 +16,7 @@ import logging
 import numpy as np
 
 from ..model import DOFS, Structure
+from ..plotting import obstacle_outlines
 from ..results import EquilibriumPath, member_lines
 
 __all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options",
@@ -270,7 +271,8 @@ def symbols(structure: Structure, lay: Layout) -> dict:
 
     ``supports``: ``{x, y, v, held}`` with ``held`` a string of the fixed DOFs
     (``"xyr"`` a clamp, ``"xy"`` a pin, ``"x"``/``"y"`` a roller, ``"r"`` a rotation
-    lock); ``loads``: ``{v, fx, fy, mz, constant}`` with ``v`` the vertex of the node.
+    lock); ``loads``: ``{v, fx, fy, mz, constant}`` with ``v`` the vertex of the node;
+    ``obstacles``: rigid obstacles of contacts (:func:`largerot.plotting.obstacle_outlines`).
     """
     fixed = structure.fixed_dofs()
     xy = structure.xy
@@ -287,4 +289,4 @@ def symbols(structure: Structure, lay: Layout) -> dict:
                 fx, fy, mz = (float(v) for v in F[n])
                 loads.append({"v": int(lay.node_vertex[int(n)]), "fx": fx, "fy": fy, "mz": mz,
                               "constant": constant})
-    return {"supports": supports, "loads": loads}
+    return {"supports": supports, "loads": loads, "obstacles": obstacle_outlines(structure)}
