@@ -15,6 +15,7 @@ import scipy.sparse as sp
 
 from . import fibres, loads
 from .elements import bar, beam, contact, fibre_beam
+from .elements._chord import chord
 from .errors import ModelError
 from .model import DOFS, Structure
 
@@ -403,6 +404,27 @@ class Assembly:
         if tangent:
             K = sp.csc_matrix((data[:-1], self.indices, self.indptr), shape=(self.n_free, self.n_free))
         return f, K, np.sqrt(scale2), extra
+
+    def internal_force(self, u: np.ndarray, fibre_q: np.ndarray | None = None) -> np.ndarray:
+        """Assembled internal force at ``u``, shape (n_dof,), reactions included.
+
+        ``fibre_q``: the fibre beams' local forces at that point (they depend on
+        the history, which the assembly holds only for the last committed point).
+        """
+        f = np.zeros(self.n_dof)
+        for g in self.groups:
+            ue = u[g.dofmap]
+            if g.kind == "fibre" and fibre_q is not None:
+                _, dX, L0 = self.fibre_geometry
+                l, _, c, s = chord(dX, ue[:, 3:5] - ue[:, 0:2], L0)
+                fe, _ = fibre_beam.corotate(c, s, l, fibre_q)
+            else:
+                fe, _, _ = g.kernel(ue, False)
+            f += np.bincount(g.dofmap.ravel(), weights=fe.ravel(), minlength=self.n_dof)
+        if len(self.spring_dofs):
+            f += np.bincount(self.spring_dofs, weights=self.spring_k * u[self.spring_dofs],
+                             minlength=self.n_dof)
+        return f
 
     def element_forces(self, u: np.ndarray, fibre_q: np.ndarray | None = None) -> dict:
         """End forces of every element at the full displacement vector ``u``.

@@ -251,7 +251,8 @@ class EquilibriumPath(_Displacements):
         asm = Assembly.of(self.structure)
         i = range(len(self))[i]
         u = self.u[i]
-        f, _, _, _ = asm.evaluate(u, tangent=False)
+        fq = self.extra.get("fibre_q")
+        f = asm.internal_force(u, None if fq is None else fq[i])
         F_ref, F_const = asm.external(u)
         R = f - self.load_factor[i] * F_ref - F_const
         R[asm.free] = 0.0

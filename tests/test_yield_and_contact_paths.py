@@ -299,3 +299,17 @@ def test_arc_length_through_the_plastic_collapse_plateau():
     assert np.interp(2 * d_c, v, path.load_factor) == pytest.approx(1.0, rel=3e-2)
     first = [e.load_factor for e in path.events if e.kind == "first yield"]
     assert first == [pytest.approx(2 / 3, rel=5e-3)]
+
+
+def test_reactions_of_a_yielding_pole_at_every_point():
+    # Statics of the deformed cantilever (common practice, no source): the clamp's
+    # moment is P·(L + ux) at every point, whatever the history of the fibres
+    # (the reactions must use each point's own fibre forces, not the last ones).
+    L = 2.0
+    s, m, tip = beam_on_supports("cantilever", L, segments=20)
+    s.load(tip, fy=-MP / L)
+    path = lr.trace(s, lr.by_displacement(tip, "uy", -0.01), max_steps=12)
+    assert path.yielded[-1].max() > 0
+    for i in range(1, len(path)):
+        moment = path.load_factor[i] * MP / L * (L + path.displacement(tip, "ux")[i])
+        assert abs(path.reactions(i)[2]) == pytest.approx(moment, rel=1e-6)
