@@ -102,16 +102,21 @@ def cantilever_and_stop(gap: float, L: float = 3.0):
     return s, b
 
 
+def loaded_onto_stop(gap: float, L: float = 3.0):
+    """The cantilever and stop with the tip load that just closes the gap as reference."""
+    s, tip = cantilever_and_stop(gap, L)
+    P_touch = 3 * E * B * H**3 / 12 * gap / L**3
+    s.load(tip, fy=-P_touch)
+    return s, tip, P_touch
+
+
 def test_cantilever_meets_a_stop():
     # Small-deflection superposition (common practice, no source): the tip moves
     # by P·L³/3EI until it meets the stop at the gap δ0; beyond, the tip stays on the
     # stop and the stop carries R = P − 3EI·δ0/L³. Gap 2 mm on a 3 m cantilever:
     # rotations below 1e-3, so small-deflection theory holds to ~1e-6.
     L, gap = 3.0, 2e-3
-    s, tip = cantilever_and_stop(gap, L)
-    EI = E * B * H**3 / 12
-    P_touch = 3 * EI * gap / L**3
-    s.load(tip, fy=-P_touch)
+    s, tip, P_touch = loaded_onto_stop(gap, L)
     path = lr.trace(s, lr.by_load(0.1), target_load_factor=2.0)
     assert path.status == "target"
     lam, v = path.load_factor, path.displacement(tip, "uy")
@@ -131,9 +136,7 @@ def test_contact_opens_again_on_unloading():
     # The stop can only push (unilateral contact): unloading below the touching
     # load lifts the tip off, the contact force is zero and the free response returns.
     L, gap = 3.0, 2e-3
-    s, tip = cantilever_and_stop(gap, L)
-    EI = E * B * H**3 / 12
-    s.load(tip, fy=-3 * EI * gap / L**3)
+    s, tip, _ = loaded_onto_stop(gap, L)
     st = lr.by_load(0.1).stepper(s, target_load_factor=1.6)
     lr.run(st, max_steps=50)
     st.resume(step=-0.1, target_load_factor=0.3)
@@ -268,10 +271,7 @@ def test_arc_length_goes_on_once_a_stop_takes_the_load():
     # and the stop's force follow small-deflection superposition, R = P − 3EI·δ0/L³
     # (common practice, no source).
     L, gap = 3.0, 2e-3
-    s, tip = cantilever_and_stop(gap, L)
-    EI = E * B * H**3 / 12
-    P_touch = 3 * EI * gap / L**3
-    s.load(tip, fy=-P_touch)
+    s, tip, P_touch = loaded_onto_stop(gap, L)
     path = lr.trace(s, lr.by_arc_length(constraint="spherical"), max_steps=200,
                     stop=lambda p: p.load_factor > 3.0)
     assert path.status == "stopped"
