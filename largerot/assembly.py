@@ -417,7 +417,7 @@ class Assembly:
             if g.kind == "fibre" and fibre_q is not None:
                 _, dX, L0 = self.fibre_geometry
                 l, _, c, s = chord(dX, ue[:, 3:5] - ue[:, 0:2], L0)
-                fe, _ = fibre_beam.corotate(c, s, l, fibre_q)
+                fe, _ = beam.corotate(c, s, l, fibre_q)
             else:
                 fe, _, _ = g.kernel(ue, False)
             f += np.bincount(g.dofmap.ravel(), weights=fe.ravel(), minlength=self.n_dof)

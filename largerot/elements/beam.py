@@ -22,7 +22,7 @@ import numpy as np
 
 from ._chord import chord
 
-__all__ = ["BeamResponse", "response", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
+__all__ = ["BeamResponse", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
 
 N_DOF = 6
 NODE_DOFS = (0, 1, 2)
@@ -70,31 +70,55 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
     N = ka * stretch
     M1 = kb * (4.0 * t1 + 2.0 * t2)
     M2 = kb * (2.0 * t1 + 4.0 * t2)
+    q = np.stack([N, M1, M2], axis=1)
+    k = None
+    if tangent:
+        k = np.zeros((len(l), 3, 3))
+        k[:, 0, 0] = ka
+        k[:, 1, 1] = k[:, 2, 2] = 4.0 * kb
+        k[:, 1, 2] = k[:, 2, 1] = 2.0 * kb
+    f, K = corotate(c, s, l, q, k)
+    return BeamResponse(q, f, K, l)
+
+
+def corotate(c, s, l, q, k=None):
+    """Global force and tangent of corotational planar beams from local ones.
+
+    Parameters
+    ----------
+    c, s, l : ndarray, shape (n_elements,)
+        Cosine, sine and length of the current chord.
+    q : ndarray, shape (n_elements, 3)
+        Local forces (N, M1, M2), work conjugates of (l − L0, θ1, θ2).
+    k : ndarray, shape (n_elements, 3, 3), optional
+        Local tangent ∂q/∂(l − L0, θ1, θ2).
+
+    Returns
+    -------
+    f : ndarray, shape (n_elements, 6)
+    K : ndarray, shape (n_elements, 6, 6) or None
+        Bᵀ·k·B (material) + N·l·z⊗z + (M1 + M2)/l·(r⊗z + z⊗r) (geometric), with the
+        rows of B: dl = r·du, dθ1 = drz1 − z·du, dθ2 = drz2 − z·du (z already over l).
+        Built as one stacked product Cᵀ·H·C with C = (r, b1, b2, z), shape
+        (n_elements, 4, 6), and H, shape (n_elements, 4, 4): k in its upper-left
+        block, the geometric coefficients in its last row and column.
+    """
     zero = np.zeros_like(c)
     r = np.stack([-c, -s, zero, c, s, zero], axis=1)
     z = np.stack([s, -c, zero, -s, c, zero], axis=1) / l[:, None]
-    # rows of B: dl = r·du; dθ1 = drz1 − z·du; dθ2 = drz2 − z·du (z already over l)
     b1 = -z.copy()
     b1[:, 2] += 1.0
     b2 = -z.copy()
     b2[:, 5] += 1.0
-    f = N[:, None] * r + M1[:, None] * b1 + M2[:, None] * b2
-    K = None
-    if tangent:
-        # K = ka·r⊗r + kb·(4 b1⊗b1 + 2 b1⊗b2 + 2 b2⊗b1 + 4 b2⊗b2)      (material)
-        #   + N·l·z⊗z + (M1 + M2)/l·(r⊗z + z⊗r)                         (geometric)
-        # as one stacked product Cᵀ·H·C with C = (r, b1, b2, z), shape (n_elements, 4, 6),
-        # and H, shape (n_elements, 4, 4), holding the coefficients above.
-        C = np.stack([r, b1, b2, z], axis=1)
-        m = (M1 + M2) / l
-        H = np.zeros((len(l), 4, 4))
-        H[:, 0, 0] = ka
-        H[:, 1, 1] = H[:, 2, 2] = 4.0 * kb
-        H[:, 1, 2] = H[:, 2, 1] = 2.0 * kb
-        H[:, 0, 3] = H[:, 3, 0] = m
-        H[:, 3, 3] = N * l
-        K = np.matmul(C.transpose(0, 2, 1), H @ C)
-    return BeamResponse(np.stack([N, M1, M2], axis=1), f, K, l)
+    C = np.stack([r, b1, b2, z], axis=1)
+    f = np.einsum("ea,eai->ei", q, C[:, :3])
+    if k is None:
+        return f, None
+    H = np.zeros((len(l), 4, 4))
+    H[:, :3, :3] = k
+    H[:, 0, 3] = H[:, 3, 0] = (q[:, 1] + q[:, 2]) / l
+    H[:, 3, 3] = q[:, 0] * l
+    return f, np.matmul(C.transpose(0, 2, 1), H @ C)
 
 
 def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9) -> np.ndarray:

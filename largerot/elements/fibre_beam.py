@@ -59,9 +59,9 @@ from ..errors import ModelError
 from ..fibres import FibreTable, response as section_response
 from ..materials import MaterialState, initial_state as _virgin
 from ._chord import chord
-from .beam import local_rotations
+from .beam import corotate, local_rotations
 
-__all__ = ["FibreBeamResponse", "response", "initial_state", "quadrature", "corotate",
+__all__ = ["FibreBeamResponse", "response", "initial_state", "quadrature",
            "N_DOF", "NODE_DOFS", "N_GAUSS"]
 
 N_DOF = 6
@@ -105,42 +105,6 @@ def quadrature(n_gauss: int = N_GAUSS, rule: str = "lobatto"):
 def initial_state(n_elements: int, n_fibres: int, n_gauss: int = N_GAUSS) -> MaterialState:
     """Virgin history, arrays of shape (n_elements, n_gauss, n_fibres)."""
     return _virgin((n_elements, n_gauss, n_fibres))
-
-
-def corotate(c, s, l, q, k=None):
-    """Global force and tangent of corotational planar beams from local ones.
-
-    Parameters
-    ----------
-    c, s, l : ndarray, shape (n_elements,)
-        Cosine, sine and length of the current chord.
-    q : ndarray, shape (n_elements, 3)
-        Local forces (N, M1, M2), work conjugates of (l − L0, θ1, θ2).
-    k : ndarray, shape (n_elements, 3, 3), optional
-        Local tangent ∂q/∂(l − L0, θ1, θ2).
-
-    Returns
-    -------
-    f : ndarray, shape (n_elements, 6)
-    K : ndarray, shape (n_elements, 6, 6) or None
-        Bᵀ·k·B plus the geometric terms N·l·z·zᵀ + (M1 + M2)/l·(r·zᵀ + z·rᵀ).
-    """
-    zero = np.zeros_like(c)
-    r = np.stack([-c, -s, zero, c, s, zero], axis=1)
-    z = np.stack([s, -c, zero, -s, c, zero], axis=1) / l[:, None]
-    b1 = -z.copy()
-    b1[:, 2] += 1.0
-    b2 = -z.copy()
-    b2[:, 5] += 1.0
-    B = np.stack([r, b1, b2], axis=1)                      # (n_elements, 3, 6)
-    f = np.einsum("ea,eai->ei", q, B)
-    if k is None:
-        return f, None
-    N, M = q[:, 0], q[:, 1] + q[:, 2]
-    K = (np.swapaxes(B, 1, 2) @ k @ B
-         + (N * l)[:, None, None] * z[:, :, None] * z[:, None, :]
-         + (M / l)[:, None, None] * (r[:, :, None] * z[:, None, :] + z[:, :, None] * r[:, None, :]))
-    return f, K
 
 
 def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, table: FibreTable,
