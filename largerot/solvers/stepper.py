@@ -101,18 +101,18 @@ class PathStepper:
     # -- start ------------------------------------------------------------------
     def _start(self) -> None:
         p = self.problem
-        r, K0, scale = p.residual(self.u, self.lam)
-        if self.assembly.has_contacts:   # penalties from the structure at rest
-            try:
-                self.assembly.set_contact_penalty(factorize(K0, symmetric=p.symmetric), p.full(self.u))
-            except SingularTangent:
-                pass
+        r, K, scale = p.residual(self.u, self.lam)
         # measured against the reference load too: at rest the internal forces of a
         # stiff curved member are pure round-off, and so would be the yardstick
         if np.linalg.norm(r) > self.tol * max(scale, float(np.linalg.norm(p.F))):
             # constant loads, pretension or a cable's own length: out of balance at rest
+            if self.assembly.has_contacts:   # penalties from the structure at rest
+                try:
+                    self.assembly.set_contact_penalty(factorize(K, symmetric=p.symmetric), p.full(self.u))
+                except SingularTangent:
+                    pass
             self._settle_constant_loads()
-        r, K, _ = p.residual(self.u, self.lam)
+            r, K, _ = p.residual(self.u, self.lam)
         try:
             self._fact = factorize(K, symmetric=p.symmetric)
         except SingularTangent as exc:
