@@ -16,19 +16,9 @@ from largerot.closed_form import two_bar_truss_load
 from largerot.examples import toggle_frame
 from largerot.solvers.arc_length import CONSTRAINTS
 
+from helpers import two_bar_truss
+
 A, H, EA = 2.0, 0.5, 1.0e4          # half-span, rise, bar stiffness of the two-bar frame
-
-
-def two_bar_truss():
-    s = lr.Structure()
-    left, apex, right = s.node(-A, 0.0), s.node(0.0, H), s.node(A, 0.0)
-    sec = lr.Section(E=EA, A=1.0)
-    s.bar(left, apex, sec)
-    s.bar(apex, right, sec)
-    s.fix(left, "ux", "uy")
-    s.fix(right, "ux", "uy")
-    s.load(apex, fy=-1.0)
-    return s, apex
 
 
 def exact_load(v, k_g=0.0):
@@ -59,7 +49,7 @@ def assert_never_reverses(path, coords):
 def test_two_bar_truss_through_both_limit_points():
     # Exact statics (module docstring). Newton's tol 1e-10 on the force residual →
     # every point within 1e-8 of the peak load of the exact curve.
-    s, apex = two_bar_truss()
+    s, apex = two_bar_truss(A, H, EA)
     path = lr.trace(s, lr.by_arc_length(), tol=1e-10,
                     stop=lambda p: -p.displacement(apex, "uy") > 2.4 * H)
     assert path.status == "stopped" and path.counters["step_cuts"] == 0
@@ -171,7 +161,7 @@ def test_automatic_first_step_is_free_of_units():
 
 
 def test_given_step_and_negative_step():
-    s, apex = two_bar_truss()
+    s, apex = two_bar_truss(A, H, EA)
     up = lr.trace(s, lr.by_arc_length(step=0.01), max_steps=5)
     assert up.status == "max_steps" and np.all(np.diff(up.load_factor) > 0)
     down = lr.trace(s, lr.by_arc_length(step=-0.01), max_steps=5)
@@ -182,7 +172,7 @@ def test_given_step_and_negative_step():
 
 def test_stepper_status_transitions():
     from largerot.solvers.controls import by_arc_length
-    s, apex = two_bar_truss()
+    s, apex = two_bar_truss(A, H, EA)
     st = by_arc_length().stepper(s)
     assert st.status == "running"
     assert st.step().startswith("Point 1")
@@ -208,7 +198,7 @@ def test_option_errors(options, match):
 
 
 def test_misuse_errors():
-    s, apex = two_bar_truss()
+    s, apex = two_bar_truss(A, H, EA)
     with pytest.raises(ValueError, match=r"`follow` must be 'primary' or 'secondary', got 'both'"):
         lr.trace(s, lr.by_arc_length(), follow="both")
     with pytest.raises(ValueError, match=r"follow='secondary' needs lr.by_arc_length"):

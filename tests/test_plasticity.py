@@ -14,6 +14,8 @@ from largerot.errors import ModelError
 from largerot.fibres import FibreSection, stack, yielded_fraction
 from largerot.materials import Bilinear, initial_state, yielding
 
+from helpers import element_jacobian
+
 E, FY = 200e9, 250e6
 EPS_Y = FY / E
 
@@ -319,16 +321,6 @@ def _random_beams(seed, n, theta, strain, rotation_scale=3.0):
     return dX, L0, u
 
 
-def _fd_tangent(force, u, h):
-    K = np.zeros(u.shape + (u.shape[1],))
-    for j in range(u.shape[1]):
-        up, um = u.copy(), u.copy()
-        up[:, j] += h
-        um[:, j] -= h
-        K[:, :, j] = (force(up) - force(um)) / (2 * h)
-    return K
-
-
 @pytest.mark.parametrize("rule, n_gauss", [("lobatto", 3), ("lobatto", 5), ("gauss", 2), ("gauss", 3)])
 def test_fibre_beam_equals_elastic_beam_below_yield(rule, n_gauss):
     # Below yield the fibre beam is the elastic corotational beam with EA = ΣE·dA,
@@ -366,7 +358,7 @@ def test_fibre_beam_tangent_is_derivative_of_force(seed, plastic):
     r = fibre_beam.response(dX, L0, u, sec.table, st)
     flow = yielding(r.state, st)
     assert (0.05 < flow.mean() < 0.95) if plastic else not flow.any()
-    Kfd = _fd_tangent(lambda v: fibre_beam.response(dX, L0, v, sec.table, st, tangent=False).f,
+    Kfd = element_jacobian(lambda v: fibre_beam.response(dX, L0, v, sec.table, st, tangent=False).f,
                       u, 1e-8)
     assert np.abs(r.K - Kfd).max() / np.abs(r.K).max() < 1e-6
 

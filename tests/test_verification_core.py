@@ -5,6 +5,8 @@ import pytest
 import largerot as lr
 from largerot.closed_form import elastica_tip_load, end_moment_tip, two_bar_truss_load
 
+from helpers import two_bar_truss
+
 
 def cantilever(segments=32, EI=2.0, L=3.0, slenderness=1e6):
     """Cantilever along +x; EA = slenderness·EI/L² keeps axial strain negligible."""
@@ -81,18 +83,6 @@ def test_end_moment_several_turns_without_wraparound():
     assert np.allclose(r, R_chords, rtol=1e-6)
     assert R_chords == pytest.approx(R, rel=2e-3)
     assert path.displacement(b, "rz")[-1] == pytest.approx(4 * np.pi, rel=1e-12)
-
-
-def two_bar_truss(half_span=2.0, rise=0.5, EA=1e4):
-    s = lr.Structure()
-    left, apex, right = s.node(-half_span, 0.0), s.node(0.0, rise), s.node(half_span, 0.0)
-    sec = lr.Section(E=EA, A=1.0)
-    s.bar(left, apex, sec)
-    s.bar(apex, right, sec)
-    s.fix(left, "ux", "uy")
-    s.fix(right, "ux", "uy")
-    s.load(apex, fy=-1.0)
-    return s, apex
 
 
 def test_two_bar_truss_snap_through_by_displacement_control():

@@ -8,6 +8,8 @@ import largerot as lr
 from largerot.demo import lighting_pole
 from largerot.widgets import data
 
+from helpers import two_bar_truss
+
 PIL = pytest.importorskip("PIL.Image")
 
 
@@ -16,18 +18,6 @@ def pole():
     s, base, top = lighting_pole(segments=8)
     path = lr.trace(s, lr.by_load(0.05), target_load_factor=1.0)
     return s, top, path
-
-
-def two_bar_truss():
-    s = lr.Structure()
-    left, apex, right = s.node(-2.0, 0.0), s.node(0.0, 0.5), s.node(2.0, 0.0)
-    sec = lr.Section(E=1e4, A=1.0)
-    s.bar(left, apex, sec)
-    s.bar(apex, right, sec)
-    s.fix(left, "ux", "uy")
-    s.fix(right, "ux", "uy")
-    s.load(apex, fy=-1.0)
-    return s, apex
 
 
 def floats(b, dtype=np.float32):

@@ -1,0 +1,40 @@
+"""Small builders and finite-difference helpers shared by the tests."""
+import numpy as np
+
+import largerot as lr
+
+
+def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1e4):
+    """Shallow two-bar truss pinned at both feet, unit reference load down at the apex."""
+    s = lr.Structure()
+    left, apex, right = s.node(-half_span, 0.0), s.node(0.0, rise), s.node(half_span, 0.0)
+    sec = lr.Section(E=EA, A=1.0)
+    s.bar(left, apex, sec)
+    s.bar(apex, right, sec)
+    s.fix(left, "ux", "uy")
+    s.fix(right, "ux", "uy")
+    s.load(apex, fy=-1.0)
+    return s, apex
+
+
+def element_jacobian(force, u, h=1e-6):
+    """Central differences of stacked element forces, shape (n_elements, n_dof, n_dof)."""
+    K = np.zeros(u.shape + (u.shape[1],))
+    for j in range(u.shape[1]):
+        up, um = u.copy(), u.copy()
+        up[:, j] += h
+        um[:, j] -= h
+        K[:, :, j] = (force(up) - force(um)) / (2 * h)
+    return K
+
+
+def residual_jacobian(problem, u, lam, h):
+    """Tangent and central-difference Jacobian −∂r/∂u of a Problem at (u, λ), dense."""
+    _, K, _ = problem.residual(u, lam)
+    J = np.empty((len(u), len(u)))
+    for j in range(len(u)):
+        e = np.zeros_like(u)
+        e[j] = h
+        J[:, j] = -(problem.residual(u + e, lam, tangent=False)[0]
+                    - problem.residual(u - e, lam, tangent=False)[0]) / (2 * h)
+    return K.toarray(), J
