@@ -113,13 +113,15 @@ def iteration_case(kind: str, n: int, repeat: int) -> dict:
     uf = A.expand(u)
     g = A.groups[0]
     ue = uf[g.dofmap]
-    fe, Ke, _ = g.kernel(ue, True)
-    f, K, _, _ = A.evaluate(uf)
+    states = A.initial_states()
+    fe, Ke = g.evaluate(ue, states[0], True)[:2]
+    K = A.evaluate(uf, states).K
+    pos0 = A.positions[0]
     rhs = np.column_stack([P.F, P.F])
 
     def scatter():
         np.bincount(g.dofmap.ravel(), weights=fe.ravel(), minlength=A.n_dof)
-        np.bincount(g.positions, weights=Ke.ravel(), minlength=A.nnz + 1)
+        np.bincount(pos0, weights=Ke.ravel(), minlength=A.nnz + 1)
 
     def csc():
         import scipy.sparse as sp
@@ -150,10 +152,10 @@ def iteration_case(kind: str, n: int, repeat: int) -> dict:
         "model": kind, "n_elements": int(sum(len(x.dofmap) for x in A.groups)),
         "n_free": int(A.n_free), "nnz_K": int(A.nnz), "setup_s": setup,
         "gather_s": best(lambda: uf[g.dofmap], repeat),
-        "kernel_s": best(lambda: g.kernel(ue, True), repeat),
+        "kernel_s": best(lambda: g.evaluate(ue, states[0], True), repeat),
         "scatter_s": best(scatter, repeat),
         "csc_s": best(csc, repeat),
-        "evaluate_s": best(lambda: A.evaluate(uf), repeat),
+        "evaluate_s": best(lambda: A.evaluate(uf, states), repeat),
         "splu_library_options_s": best(lambda: spla.splu(K, **lib_opts), repeat),
         "factorize_s": best(lambda: linalg.Factorization(K), repeat),
         "pivots_s": best(lambda: linalg.Factorization(K).n_negative, repeat),
@@ -419,7 +421,7 @@ def memory_child(n: int, points: int) -> dict:
             "tracemalloc_peak_MB": peak / 2**20, "tracemalloc_kept_MB": current / 2**20,
             "path_u_MB": u_bytes / 2**20,
             "path_u_bytes_per_point_per_free_dof": u_bytes / (len(path) * path.free.size),
-            "structures_alive": structures, "path_shares_structure": path.structure is s}
+            "structures_alive": structures, "path_shares_snapshot": path.structure is s.snapshot()}
 
 
 def memory(n: int, points: int) -> dict:
@@ -521,7 +523,7 @@ def table(res: dict) -> str:
              f"tracemalloc peak during trace {m['tracemalloc_peak_MB']:.0f} MB; path displacements "
              f"{m['path_u_MB']:.1f} MB ({m['path_u_bytes_per_point_per_free_dof']:.0f} B per point per "
              f"free DOF); structures alive {m['structures_alive']}, path shares the structure: "
-             f"{m['path_shares_structure']}")
+             f"{m['path_shares_snapshot']}")
     return "\n".join(L)
 
 

@@ -9,7 +9,8 @@ from .results import CriticalPoint, EquilibriumPath, Event, Point
 from .sections import Section
 from .fibres import FibreSection
 from .elements.contact import Circle, Line
-from .solvers import by_arc_length, by_displacement, by_load, run, trace
+from .snapshot import Model
+from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, run, trace
 from .buckling import Buckling, buckling, imperfect
 from . import plotting
 
@@ -25,4 +26,4 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "trace", "plotting", "widgets", "__version__"]
+           "imperfect", "trace", "iterate", "STATUS", "Model", "plotting", "widgets", "__version__"]

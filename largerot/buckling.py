@@ -15,7 +15,6 @@ positive λ (the reference load's own sense) are returned.
 """
 from __future__ import annotations
 
-import copy
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -23,7 +22,6 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from .assembly import Assembly
 from .errors import ModelError
 from .model import Structure
 
@@ -32,10 +30,6 @@ __all__ = ["buckling", "Buckling", "imperfect"]
 #: Free DOFs up to which the generalised eigenproblem is solved densely (LAPACK is
 #: fast and failure-free at this size).
 DENSE_MAX = 800
-#: Size of the probe state for the element forces, as a share of the structure's
-#: size: small enough to be linear to ~1e-8 after the central difference, large
-#: enough that round-off (~1e-16/1e-4) stays negligible.
-PROBE = 1e-4
 
 
 @dataclass
@@ -73,59 +67,6 @@ def _unit_mode(phi_full: np.ndarray) -> np.ndarray:
     return phi_full / ref[k]
 
 
-def _consistent_axial(N: np.ndarray, L: np.ndarray, c: np.ndarray, s: np.ndarray) -> np.ndarray:
-    """Consistent geometric stiffness of cubic (Hermite) bending under axial force N.
-
-    In local (v1, θ1, v2, θ2): N/(30L)·[[36, 3L, −36, 3L], [3L, 4L², −3L, −L²],
-    [−36, −3L, 36, −3L], [3L, −L², −3L, 4L²]] (Przemieniecki 1968, *Theory of Matrix
-    Structural Analysis*, from memory), rotated to global DOFs; shape (n_elements, 6, 6).
-    Buckling loads then converge as h⁴ (10 elements: ~1e-5 for Euler columns), where
-    the corotational tangent's chord-only term (the 36/30 → 1 lumping) converges as h².
-    """
-    one, zero = np.ones_like(L), np.zeros_like(L)
-    kl = np.array([[36, 3, -36, 3], [3, 4, -3, -1], [-36, -3, 36, -3], [3, -1, -3, 4]], float)
-    powers = np.array([[0, 1, 0, 1], [1, 2, 1, 2], [0, 1, 0, 1], [1, 2, 1, 2]])
-    Kl = (N / (30 * L))[:, None, None] * kl * L[:, None, None] ** powers
-    T = np.zeros((len(L), 4, 6))
-    T[:, 0, 0], T[:, 0, 1] = -s, c
-    T[:, 1, 2] = one
-    T[:, 2, 3], T[:, 2, 4] = -s, c
-    T[:, 3, 5] = one
-    del zero
-    return np.einsum("eki,ekl,elj->eij", T, Kl, T)
-
-
-def geometric_stiffness(assembly: Assembly, u: np.ndarray) -> sp.csc_matrix:
-    """Kσ over the free DOFs of the linear state ``u`` (full vector), shape (n_free, n_free)."""
-    scale = PROBE * assembly.length_scale / max(float(np.abs(u).max()), 1e-300)
-    data = np.zeros(assembly.nnz + 1)
-    for g in assembly.groups:
-        up, um = scale * u[g.dofmap], -scale * u[g.dofmap]
-        _, _, ex_p = g.kernel(up, False)
-        _, _, ex_m = g.kernel(um, False)
-        if g.kind == "beam":
-            q = (ex_p["q"] - ex_m["q"]) / (2 * scale)
-            X1, dX, L0 = assembly.beam_geometry
-            c, s = dX[:, 0] / L0, dX[:, 1] / L0
-            zero = np.zeros_like(c)
-            r = np.stack([-c, -s, zero, c, s, zero], axis=1)
-            z = np.stack([s, -c, zero, -s, c, zero], axis=1) / L0[:, None]
-            Kg = (_consistent_axial(q[:, 0], L0, c, s)
-                  + ((q[:, 1] + q[:, 2]) / L0)[:, None, None]
-                  * (np.einsum("ei,ej->eij", r, z) + np.einsum("ei,ej->eij", z, r)))
-        elif g.kind == "bar":
-            N = (ex_p["N"] - ex_m["N"]) / (2 * scale)
-            X1, dX, L0 = assembly.bar_geometry
-            c, s = dX[:, 0] / L0, dX[:, 1] / L0
-            z = np.stack([s, -c, -s, c], axis=1)
-            Kg = (N / L0)[:, None, None] * np.einsum("ei,ej->eij", z, z)
-        else:
-            continue
-        data += np.bincount(g.positions, weights=Kg.ravel(), minlength=assembly.nnz + 1)
-    n = assembly.n_free
-    return sp.csc_matrix((data[:-1], assembly.indices, assembly.indptr), shape=(n, n))
-
-
 def buckling(structure: Structure, modes: int = 3) -> Buckling:
     """Linear buckling load factors and modes under the structure's reference load.
 
@@ -153,24 +94,24 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     """
     if isinstance(modes, bool) or not isinstance(modes, (int, np.integer)) or modes < 1:
         raise ValueError(f"`modes` must be a positive integer, got {modes!r}.")
-    if not isinstance(structure, Structure):
+    if not hasattr(structure, "snapshot"):
         raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
-    asm = Assembly.of(structure)
+    model = structure.snapshot()
+    asm = model.assembly
     F = asm.external(np.zeros(asm.n_dof))[0][asm.free]      # follower loads as at rest
     if not F.any():
         raise ModelError("Linear buckling needs a reference load; the structure has none.")
     n = asm.n_free
-    _, K0, _, _ = asm.evaluate(np.zeros(asm.n_dof), True)
+    K0 = asm.evaluate(np.zeros(asm.n_dof), asm.initial_states(), True).K
     try:
         lu = spla.splu(K0.tocsc())
         u1 = lu.solve(F)
     except RuntimeError:
         raise ModelError("The unloaded structure is a mechanism: its stiffness is singular.") from None
-    Ks = geometric_stiffness(asm, asm.expand(u1))
+    Ks = asm.stress_stiffness(asm.expand(u1))
     if asm.has_followers:
         # follower loads: their load stiffness −∂F/∂u per unit λ joins Kσ
-        _, KL, _, _ = asm.evaluate(np.zeros(asm.n_dof), True, lam=1.0, const_factor=0.0)
-        Ks = (Ks + (KL - K0)).tocsc()
+        Ks = (Ks + asm.load_stiffness(np.zeros(asm.n_dof), 1.0, 0.0)).tocsc()
         return _nonsymmetric(structure, asm, K0, Ks, modes)
     if n <= DENSE_MAX:
         try:
@@ -233,10 +174,4 @@ def imperfect(structure: Structure, mode: np.ndarray, amplitude: float) -> Struc
     big = float(np.hypot(t[:, 0], t[:, 1]).max())
     if not np.isfinite(big) or big == 0.0:
         raise ValueError("`mode` has no finite, non-zero translation to seed an imperfection with.")
-    state = {k: v for k, v in structure.__dict__.items() if k != "_assembly"}
-    new = Structure.__new__(Structure)
-    new.__dict__.update(copy.deepcopy(state))
-    xy = structure.xy + amplitude * t / big
-    new._xy = [(float(x), float(y)) for x, y in xy]
-    new._changed()
-    return new
+    return structure.moved(structure.xy + amplitude * t / big)

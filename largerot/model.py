@@ -5,6 +5,7 @@ solvers need are built from it by :mod:`largerot.assembly`.
 """
 from __future__ import annotations
 
+import copy
 import math
 from dataclasses import dataclass, field
 
@@ -13,6 +14,7 @@ import numpy as np
 from .errors import ModelError
 from .geometry import hanging_chain
 from .sections import Section
+from .snapshot import Model
 
 __all__ = ["Structure", "Member", "DOFS", "dof_index"]
 
@@ -56,6 +58,15 @@ class Member:
     @property
     def ends(self) -> tuple:
         return self.nodes[0], self.nodes[-1]
+
+
+def _spread(f: np.ndarray, m: Member, q: np.ndarray, lengths: dict) -> None:
+    """Add half of each element's load q·L0 (L0 unstretched) to each of its ends."""
+    nodes = np.array(m.nodes)
+    L0 = lengths["bar" if m.kind == "cable" else m.kind][m.elements]
+    for end in (nodes[:-1], nodes[1:]):
+        for k in range(2):
+            np.add.at(f, 3 * end + k, 0.5 * q[k] * L0)
 
 
 def _finite(name: str, value) -> float:
@@ -368,19 +379,91 @@ class Structure:
         self._springs[key] = self._springs.get(key, 0.0) + k
         self._changed()
 
-    # -- queries -------------------------------------------------------------
+    # -- snapshot and copies ----------------------------------------------------
+    def snapshot(self) -> Model:
+        """The structure as it is now, frozen: what a trace and its path work on.
+
+        Built once per state of the structure (cached until the next edit), so
+        tracing the same structure twice shares the snapshot and its sparse pattern.
+        """
+        snap = self.__dict__.get("_snapshot")
+        if snap is None or snap[0] != self._version:
+            snap = (self._version, self._build_snapshot())
+            self._snapshot = snap
+        return snap[1]
+
+    def _build_snapshot(self) -> Model:
+        xy = np.array(self._xy, dtype=float).reshape(-1, 2)
+        tables = {k: np.array(v, dtype=np.int64).reshape(-1, 3) for k, v in self._elements.items()}
+        bar_nodes = tables["bar"][:, :2]
+        chord = np.hypot(*(xy[bar_nodes[:, 1]] - xy[bar_nodes[:, 0]]).T) if len(bar_nodes) else np.zeros(0)
+        given = np.array(self._bar_L0, dtype=float).reshape(-1)
+        bar_length = np.where(np.isnan(given), chord, given) if len(given) else chord
+        lengths = {"beam": np.hypot(*(xy[tables["beam"][:, 1]] - xy[tables["beam"][:, 0]]).T)
+                   if len(tables["beam"]) else np.zeros(0), "bar": bar_length}
+        spring_keys = sorted(self._springs)
+        contact_obstacles = list(dict.fromkeys(o for _, o in self._contacts))
+        return Model(
+            xy=xy, beam_nodes=tables["beam"][:, :2], beam_sections=tables["beam"][:, 2],
+            bar_nodes=bar_nodes, bar_sections=tables["bar"][:, 2], bar_length=bar_length,
+            bar_cable=np.array(self._bar_cable, dtype=bool).reshape(-1),
+            sections=tuple(self._sections), members=tuple(self.members),
+            fixed=np.array(sorted(3 * n + d for n, d in self._fixed), dtype=np.int64),
+            spring_dofs=np.array([3 * n + d for n, d in spring_keys], dtype=np.int64),
+            spring_k=np.array([self._springs[k] for k in spring_keys], dtype=float),
+            F_ref=self._load_vector(False, len(xy), lengths),
+            F_const=self._load_vector(True, len(xy), lengths),
+            followers=tuple(self._follower_table(c) for c in (False, True)),
+            pressures=tuple(self._pressure_table(c) for c in (False, True)),
+            contact_nodes=np.array([n for n, _ in self._contacts], dtype=np.int64),
+            obstacles=tuple(contact_obstacles),
+            contact_obstacle=np.array([contact_obstacles.index(o) for _, o in self._contacts],
+                                      dtype=np.int64))
+
+    def copy(self) -> "Structure":
+        """An independent copy: later edits of either do not reach the other."""
+        return copy.deepcopy(self)
+
+    def moved(self, xy) -> "Structure":
+        """A copy with the nodes at new undeformed positions ``xy``, shape (n_nodes, 2).
+
+        Members, sections, supports and loads are kept; the new structure is
+        stress-free in its new shape (e.g. an imperfect one, :func:`largerot.imperfect`).
+        """
+        xy = np.asarray(xy, dtype=float)
+        if xy.shape != (self.n_nodes, 2):
+            raise ModelError(f"`xy` must have shape ({self.n_nodes}, 2), got {xy.shape}.")
+        bad = np.flatnonzero(~np.isfinite(xy).all(axis=1))
+        if len(bad):
+            raise ModelError(f"Node {int(bad[0])} would move to a non-finite position {xy[bad[0]].tolist()}.")
+        new = self.copy()
+        new._xy = [(float(x), float(y)) for x, y in xy]
+        new._changed()
+        return new
+
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state.pop("_snapshot", None)          # a cache, rebuilt on demand
+        return state
+
+    def __deepcopy__(self, memo) -> "Structure":
+        new = Structure.__new__(Structure)
+        memo[id(self)] = new
+        new.__dict__.update(copy.deepcopy(self.__getstate__(), memo))
+        return new
+
+    # -- queries (answered by the snapshot) -------------------------------------
     @property
     def sections(self) -> tuple:
         return tuple(self._sections)
 
     def element_table(self, kind: str) -> tuple[np.ndarray, np.ndarray]:
         """Node pairs, shape (n_elements, 2), and section ids, shape (n_elements,)."""
-        rows = np.array(self._elements[kind], dtype=np.int64).reshape(-1, 3)
-        return rows[:, :2], rows[:, 2]
+        return self.snapshot().element_table(kind)
 
     def fixed_dofs(self) -> np.ndarray:
         """Global indices (3·node + dof) of restrained DOFs, sorted."""
-        return np.array(sorted(3 * n + d for n, d in self._fixed), dtype=np.int64)
+        return self.snapshot().fixed_dofs()
 
     def load_vector(self, constant: bool = False) -> np.ndarray:
         """Dead reference (or constant) loads as nodal forces, shape (3·n_nodes,).
@@ -388,51 +471,55 @@ class Structure:
         Nodal loads, dead line loads and self-weight; follower loads depend on the
         deformation and are evaluated by the assembly.
         """
-        f = np.zeros(3 * self.n_nodes)
+        return self.snapshot().load_vector(constant)
+
+    def element_lengths(self, kind: str) -> np.ndarray:
+        """Unstretched length of every element of a kind, shape (n_elements,)."""
+        return self.snapshot().element_lengths(kind)
+
+    def tension_only(self) -> np.ndarray:
+        """Which bar elements are cable segments, shape (n_bar_elements,), bool."""
+        return self.snapshot().tension_only()
+
+    def follower_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray]:
+        """Nodes with follower forces and the forces at zero rotation, shapes (n,), (n, 2)."""
+        return self.snapshot().follower_table(constant)
+
+    def pressure_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Follower line loads per element: kind ("beam"/"bar") of each row, element
+        index in its table, and (normal, tangential) per unit deformed length."""
+        return self.snapshot().pressure_table(constant)
+
+    def spring_table(self) -> tuple[np.ndarray, np.ndarray]:
+        """Global DOF indices and stiffnesses of grounded springs."""
+        return self.snapshot().spring_table()
+
+    def contact_table(self) -> list:
+        """(node, obstacle) pairs in the order given."""
+        return list(self._contacts)
+
+    # -- snapshot ingredients ------------------------------------------------------
+    def _load_vector(self, constant: bool, n_nodes: int, lengths: dict) -> np.ndarray:
+        f = np.zeros(3 * n_nodes)
         for (n, d, c), v in self._loads.items():
             if c == constant:
                 f[3 * n + d] += v
         for mid, qx, qy, _, _, c in self._line_loads:
             if c == constant and (qx or qy):
-                self._spread(f, self.members[mid], np.array([qx, qy]))
+                _spread(f, self.members[mid], np.array([qx, qy]), lengths)
         if self._gravity is not None and self._gravity[3] == constant:
             g, dx, dy, _ = self._gravity
             for m in self.members:
                 if m.section.density > 0.0:
-                    self._spread(f, m, m.section.density * m.section.A * g * np.array([dx, dy]))
+                    _spread(f, m, m.section.density * m.section.A * g * np.array([dx, dy]), lengths)
         return f
 
-    def _spread(self, f: np.ndarray, m: Member, q: np.ndarray) -> None:
-        """Add half of each element's load q·L0 to each of its ends."""
-        nodes = np.array(m.nodes)
-        L0 = self.element_lengths("bar" if m.kind == "cable" else m.kind)[m.elements]
-        for end in (nodes[:-1], nodes[1:]):
-            for k in range(2):
-                np.add.at(f, 3 * end + k, 0.5 * q[k] * L0)
-
-    def element_lengths(self, kind: str) -> np.ndarray:
-        """Unstretched length of every element of a kind, shape (n_elements,)."""
-        nodes, _ = self.element_table(kind)
-        xy = self.xy
-        L = np.hypot(*(xy[nodes[:, 1]] - xy[nodes[:, 0]]).T) if len(nodes) else np.zeros(0)
-        if kind == "bar" and len(L):
-            given = np.array(self._bar_L0)
-            L = np.where(np.isnan(given), L, given)
-        return L
-
-    def tension_only(self) -> np.ndarray:
-        """Which bar elements are cable segments, shape (n_bar_elements,), bool."""
-        return np.array(self._bar_cable, dtype=bool)
-
-    def follower_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray]:
-        """Nodes with follower forces and the forces at zero rotation, shapes (n,), (n, 2)."""
+    def _follower_table(self, constant: bool) -> tuple[np.ndarray, np.ndarray]:
         keys = sorted(k for k in self._followers if k[1] == constant)
         nodes = np.array([k[0] for k in keys], dtype=np.int64)
         return nodes, np.array([self._followers[k] for k in keys], dtype=float).reshape(-1, 2)
 
-    def pressure_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """Follower line loads per element: kind ("beam"/"bar") of each row, element
-        index in its table, and (normal, tangential) per unit deformed length."""
+    def _pressure_table(self, constant: bool):
         kinds, elems, vals = [], [], []
         for mid, _, _, p, t, c in self._line_loads:
             if c == constant and (p or t):
@@ -442,12 +529,6 @@ class Structure:
                 vals += [(p, t)] * len(m.elements)
         return (np.array(kinds, dtype=object), np.array(elems, dtype=np.int64),
                 np.array(vals, dtype=float).reshape(-1, 2))
-
-    def spring_table(self) -> tuple[np.ndarray, np.ndarray]:
-        """Global DOF indices and stiffnesses of grounded springs."""
-        keys = sorted(self._springs)
-        dofs = np.array([3 * n + d for n, d in keys], dtype=np.int64)
-        return dofs, np.array([self._springs[k] for k in keys], dtype=float)
 
     def __repr__(self) -> str:
         nb = len(self._elements["beam"])

@@ -6,19 +6,10 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .elements import beam as beam_kernel
-from .model import DOFS, Structure, dof_index
+from .model import DOFS, dof_index
+from .snapshot import Model
 
-__all__ = ["EquilibriumPath", "Point", "CriticalPoint", "Event", "PATH_STATUS"]
-
-#: What ``path.status`` can be, with its message (one table for all steppers).
-PATH_STATUS = {
-    "running": "The trace has not finished.",
-    "target": "Reached the target load factor.",
-    "stopped": "The stop condition was met.",
-    "max_steps": "Took the maximum number of steps.",
-    "failed": "Newton's method did not converge even at the smallest step; "
-              "the path ends at the last converged point.",
-}
+__all__ = ["EquilibriumPath", "Point", "CriticalPoint", "Event"]
 
 
 @dataclass
@@ -59,13 +50,13 @@ class Event:
     Attributes
     ----------
     kind : str
-        ``"first yield"``, ``"contact closes"``, ``"contact opens"``, ``"cable slack"``
-        or ``"cable taut"``.
+        ``"first yield"``, ``"contact closes"``, ``"contact opens"``, ``"cable slack"``,
+        ``"cable taut"``, or the name of a user's event function.
     index : int
         The path point before it.
     load_factor : float
-        Where it happened (linear interpolation of the event function between
-        the two points; the later point's λ for cables).
+        Where it happened, located by root finding on the path between the two
+        points (:mod:`largerot.solvers.events`).
     detail : str
         Which node or element.
     """
@@ -79,11 +70,11 @@ class Event:
 class _Displacements:
     """Shared look-ups of node displacements in a full DOF vector or stack of them."""
 
-    structure: Structure
+    structure: Model
 
     def _column(self, node: int, dof: str) -> int:
         if not 0 <= int(node) < self.structure.n_nodes:
-            raise IndexError(f"Unknown node {node!r}.")
+            raise IndexError(f"Unknown node {node!r} (the model has {self.structure.n_nodes} nodes).")
         return 3 * int(node) + dof_index(dof)
 
 
@@ -92,6 +83,8 @@ class Point(_Displacements):
 
     Attributes
     ----------
+    structure : Model
+        The frozen model of the trace.
     index : int
     load_factor : float
     u : ndarray, shape (3·n_nodes,)
@@ -99,7 +92,7 @@ class Point(_Displacements):
     iterations : int
     """
 
-    def __init__(self, structure: Structure, index: int, load_factor: float,
+    def __init__(self, structure: Model, index: int, load_factor: float,
                  u: np.ndarray, iterations: int = 0) -> None:
         self.structure, self.index, self.load_factor = structure, index, float(load_factor)
         self.u, self.iterations = u, iterations
@@ -127,8 +120,13 @@ class EquilibriumPath(_Displacements):
         Relative residual after each iteration, per point.
     n_negative : ndarray of int, shape (n_points,)
         Negative eigenvalues of the tangent at each point.
+    structure : Model
+        The frozen model the path was traced on (also ``path.model``): editing the
+        Structure afterwards changes nothing here.
     status : str
-        A key of :data:`PATH_STATUS`.
+        A word of :data:`largerot.solvers.status.STATUS`.
+    status_code : int
+        Its code: negative for a failure, positive for a trace that ended well.
     message : str
     critical_points : list of CriticalPoint
     counters : dict
@@ -139,11 +137,12 @@ class EquilibriumPath(_Displacements):
         zero at point 0 (NaN when not recorded).
     """
 
-    def __init__(self, structure: Structure, free: np.ndarray, load_factor, u_free,
+    def __init__(self, structure: Model, free: np.ndarray, load_factor, u_free,
                  iterations, residuals, n_negative, status: str, message: str,
                  critical_points=None, counters=None, extra=None, arc_length=None,
-                 events=None) -> None:
-        self.structure = structure
+                 events=None, status_code: int = 0) -> None:
+        self.structure = structure.snapshot()
+        self.status_code = int(status_code)
         self.free = np.asarray(free)
         self.load_factor = np.asarray(load_factor, dtype=float)
         self._u_free = np.asarray(u_free, dtype=float).reshape(len(self.load_factor), -1)
@@ -164,8 +163,18 @@ class EquilibriumPath(_Displacements):
         return len(self.load_factor)
 
     @property
+    def model(self) -> Model:
+        return self.structure
+
+    @property
     def success(self) -> bool:
-        return self.status not in ("failed", "running")
+        """True for a trace that ended well (a positive status code)."""
+        return self.status_code > 0
+
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state["_u_full"] = None           # a cache, rebuilt on demand
+        return state
 
     @property
     def stable(self) -> np.ndarray:
@@ -229,16 +238,17 @@ class EquilibriumPath(_Displacements):
             cable segments included. With ``i=None`` every array gains a leading
             axis of length n_points. Recomputed from the stored displacements.
         """
-        from .assembly import Assembly
-
-        asm = Assembly.of(self.structure)
-        fq = self.extra.get("fibre_q")
+        asm = self.structure.assembly
         if i is not None:
             i = range(len(self))[i]
-            return asm.element_forces(self.u[i], None if fq is None else fq[i])
-        each = [asm.element_forces(u, None if fq is None else fq[j]) for j, u in enumerate(self.u)]
+            return asm.element_forces(self.u[i], self._record(i))
+        each = [asm.element_forces(u, self._record(j)) for j, u in enumerate(self.u)]
         return {k: {name: np.array([f[k][name] for f in each]) for name in each[0][k]}
                 for k in ("beam", "bar")} if each else {}
+
+    def _record(self, i: int) -> dict:
+        """What the trace recorded at point ``i`` (history-dependent forces among it)."""
+        return {k: v[i] for k, v in self.extra.items()}
 
     def reactions(self, i: int) -> np.ndarray:
         """Support reactions at point ``i``, shape (3·n_nodes,) (zero at free DOFs).
@@ -246,13 +256,10 @@ class EquilibriumPath(_Displacements):
         The force each restrained DOF receives from its support: internal force minus
         the loads applied there.
         """
-        from .assembly import Assembly
-
-        asm = Assembly.of(self.structure)
+        asm = self.structure.assembly
         i = range(len(self))[i]
         u = self.u[i]
-        fq = self.extra.get("fibre_q")
-        f = asm.internal_force(u, None if fq is None else fq[i])
+        f = asm.internal_force(u, self._record(i))
         F_ref, F_const = asm.external(u)
         R = f - self.load_factor[i] * F_ref - F_const
         R[asm.free] = 0.0
@@ -340,11 +347,13 @@ class EquilibriumPath(_Displacements):
         return pd.DataFrame(cols, index=pd.RangeIndex(len(self), name="point"))
 
     def __repr__(self) -> str:
+        if not len(self):
+            return f"EquilibriumPath(0 points, status={self.status!r})"
         return (f"EquilibriumPath({len(self)} points, load factor "
                 f"{self.load_factor.min():.4g}…{self.load_factor.max():.4g}, status={self.status!r})")
 
 
-def member_lines(structure: Structure, u: np.ndarray, n_sub: int = 9) -> dict:
+def member_lines(structure, u: np.ndarray, n_sub: int = 9) -> dict:
     """Deformed beam curves and bar chords for a full displacement vector ``u``."""
     xy = structure.xy
     out = {}

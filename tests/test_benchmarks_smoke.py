@@ -28,5 +28,5 @@ def test_quick_benchmark_writes_results(tmp_path):
     # the baseline is a check of the mechanics too: it must reproduce largerot's tip
     assert all(r["tip_relative_difference"] < 1e-8 for r in res["baseline"])
     assert "exponent" in res["scaling"]
-    assert res["memory"]["path_shares_structure"] is True
+    assert res["memory"]["path_shares_snapshot"] is True
     assert "Newton iteration" in proc.stdout

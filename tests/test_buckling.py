@@ -95,7 +95,7 @@ def singular_load_factor(sc, lo, hi):
     def lowest(lam):
         u = np.zeros(3 * sc.structure.n_nodes)
         u[1::3] = -lam * strain * y
-        K = asm.evaluate(u, True)[1]
+        K = asm.evaluate(u, asm.initial_states(), True).K
         return np.linalg.eigvalsh(K.toarray())[0]
 
     return brentq(lowest, lo, hi, xtol=1e-14)

@@ -97,8 +97,8 @@ def test_stepper_object_status_transitions():
     msg = st.step()
     assert "λ = 0.5" in msg and st.status == "running"
     st.step()
-    assert st.status == "finished" and st.path_status == "target"
-    with pytest.raises(RuntimeError, match="finished"):
+    assert st.status == "target" and not st.running
+    with pytest.raises(RuntimeError, match="has ended"):
         st.step()
     state = st.state()
     assert set(state) >= {"u", "lam", "h", "status"} and state["lam"] == 1.0

@@ -120,7 +120,7 @@ def test_bad_solver_options():
     s.beam(a, b, SEC)
     s.fix(a)
     s.load(b, fy=1.0)
-    with pytest.raises(ValueError, match="`tol` must lie in"):
+    with pytest.raises(ValueError, match="`tol` must be positive, got 0.0"):
         lr.trace(s, lr.by_load(0.1), tol=0.0)
     with pytest.raises(TypeError, match="`control` must be"):
         lr.trace(s, 0.1)

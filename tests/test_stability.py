@@ -80,7 +80,7 @@ def test_stability_flags_along_snap_through(shallow):
     from largerot.assembly import Assembly
     asm = Assembly.of(sc.structure)
     for i in (first.index, first.index + 1, second.index + 1):
-        K = asm.evaluate(path.u[i], True)[1].toarray()
+        K = asm.evaluate(path.u[i], asm.initial_states(), True).K.toarray()
         assert np.count_nonzero(np.linalg.eigvalsh(K) < 0) == path.n_negative[i]
 
 

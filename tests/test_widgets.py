@@ -30,7 +30,7 @@ def test_slider_moves_the_synced_index_and_readout(pole):
     ex = lr.widgets.explore(path, node=top, dof="ux")
     assert ex.canvas.n_frames == len(path) == ex.slider.max + 1
     ex.slider.value = 7
-    assert ex.canvas.index == 7 and ex.point == 7
+    assert ex.index == 7 and ex.point == 7
     assert ex.readout["λ"] == pytest.approx(path.load_factor[7])
     assert ex.readout[f"ux[{top}]"] == pytest.approx(path.displacement(top, "ux")[7])
     ex.index = -1
@@ -159,7 +159,7 @@ def test_live_steps_runs_backs_and_resets():
     assert lv.view.canvas.n_frames == 2 and lv.view.index == 1
     lv.run()                                           # background thread
     lv.wait(60)
-    assert lv.stepper.status == "finished" and lv.status == "finished"
+    assert lv.stepper.status == "target" and lv.status == "target" and not lv.busy
     assert lv.path.load_factor[-1] == pytest.approx(0.5)
     assert lv.n_points == 6 and lv.bar.value == pytest.approx(1.0)
     lv.back()
@@ -189,10 +189,10 @@ def test_stepping_an_ended_trace_shows_the_error_in_the_widget():
     s, base, top = lighting_pole(segments=4)
     lv = lr.widgets.live(s, lr.by_load(0.5), target_load_factor=0.5)
     lv.step()
-    assert lv.stepper.status == "finished" and lv.error == ""
+    assert lv.stepper.status == "target" and lv.error == ""
     assert lv.step() is None
     assert "RuntimeError" in lv.error
-    assert any("finished" in o.get("text", "") for o in lv.errors.outputs)
+    assert any("has ended" in o.get("text", "") for o in lv.errors.outputs)
     assert lv.errors.layout.display == ""
 
 

@@ -193,7 +193,7 @@ def test_global_tangent_with_yielded_fibres_and_active_contact():
     path = st.result()
     assert path.status == "target" and path.yielded.max() > 0 and path.contact_forces[-1, 0] > 0
     asm = st.assembly
-    p = Problem(asm)
+    p = Problem(asm, st.history)
     u0 = st.u + 1e-5 * np.random.default_rng(1).standard_normal(len(st.u))
     K, J = residual_jacobian(p, u0, st.lam, h=1e-9)
     np.testing.assert_allclose(K, J, atol=1e-5 * np.abs(K).max())

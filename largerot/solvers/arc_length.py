@@ -24,9 +24,22 @@ the linear response would close a contact or first yield; the first step then mo
 λ by λ_c/``AUTO_STEPS`` on the linear path. No knowledge of the norm is needed.
 
 Step adaptation (Ramm 1981): Δl ← Δl·(I_d/I)^½ after a point that took I iterations,
-the factor kept within [``MIN_FACTOR``, ``MAX_FACTOR``], Δl within [min_step, max_step]
-(defaults: the first step/2¹⁰ and ``MAX_STEP_FACTOR`` first steps, re-based on the
-switch step after a branch switch). A failed step is halved (down to ``min_step``).
+the factor kept within [``MIN_FACTOR``, ``MAX_FACTOR``], Δl within [min_step, max_step].
+Defaults: min_step = the first step/2¹⁰; max_step = ``MAX_STEP_SHARE``·L·√n_free
+(L the structure's size, n_free the free DOFs: the step moves the DOFs by at most
+that share of L in the root mean square), whatever the first step, which is set by
+the early response and may be far smaller than what a post-buckled path needs;
+after a branch switch at least ``MAX_STEP_FACTOR`` switch steps. A failed step is
+halved (down to ``min_step``).
+
+Guard against doubling back: a converged point is rejected, and the step halved
+like a failed one, when its increment has a negative inner product with the
+previous increment (metric with ψ = 1), when it lies within ``REVISIT_SHARE`` of
+the step's length of one of the last ``REVISIT_WINDOW`` points, or (normal-plane
+and updated-normal-plane) when its increment makes an angle with the predictor whose
+cosine is below ``MIN_PREDICTOR_COSINE`` (the corrector slid to another branch).
+Each rejection is logged and counted (``path.counters["rejected_points"]``, part
+of ``step_cuts``).
 
 Branch switching (``follow="secondary"``): at the first bifurcation the point past it
 is dropped, the located critical point becomes a path point, and the next step
@@ -43,6 +56,7 @@ import numpy as np
 
 from ..errors import ModelError
 from .constraints import LinearisedConstraint, Metric, PlaneConstraint, QuadraticConstraint
+from .newton import NewtonResult
 from .stepper import MAX_HALVINGS, PathStepper
 
 __all__ = ["ArcLengthStepper", "CONSTRAINTS", "check_options"]
@@ -59,10 +73,30 @@ GEOMETRIC_SHARE = 0.1
 RAMM_EXPONENT = 0.5
 #: Bounds on the change of Δl from one step to the next (avoid wild jumps).
 MIN_FACTOR, MAX_FACTOR = 0.25, 2.0
-#: Default largest step as a multiple of the first one (after a branch switch, of
-#: the switch step: post-buckled paths are long in u while λ barely changes). Four
-#: keeps 20-60 points on a path through its critical points, enough to draw it.
+#: Default largest step, as a share of the structure's size L in the metric: the
+#: norm of a field that moves every free DOF by L (rotations by 1 rad) is L·√n_free,
+#: and a step may move the DOFs by at most this share of L in the root mean square.
+#: 1/20: a path along which the structure moves by its own size takes 20 points or
+#: more, enough to draw it; the bound no longer depends on the first step, which is
+#: set by the early (often stiff, axial) response and is far too small later on.
+MAX_STEP_SHARE = 0.05
+#: After a branch switch the bound is at least this many switch steps (post-buckled
+#: paths are long in u while λ barely changes).
 MAX_STEP_FACTOR = 4.0
+#: A converged point is rejected (and the step cut) when it lies within this share
+#: of the step's length of one of the last ``REVISIT_WINDOW`` points: the corrector
+#: went back to a part of the path already traced.
+REVISIT_SHARE = 0.1
+#: Points looked back at for a revisit (the cost is one pass over each).
+REVISIT_WINDOW = 20
+#: Plane constraints: least cosine between the converged increment and the predictor.
+#: On a path whose radius of curvature R exceeds the step h, the normal plane at
+#: distance h along the tangent cuts the path within h²/(2R)·(1 + O(h²/R²)) of the
+#: predicted point, and a chord of length h makes an angle asin(h/2R) with the
+#: tangent: both keep the cosine above 1/√2 for h up to R. A lower cosine means the
+#: corrector slid along the plane to another branch (or the step exceeds the
+#: curvature radius, where the predictor tells nothing): cut the step.
+MIN_PREDICTOR_COSINE = 2.0**-0.5
 #: Branch switch: largest node translation along the mode, share of the size. Big
 #: enough to clear the bifurcation's ill-conditioning, small next to the branch.
 BRANCH_AMPLITUDE = 0.01
@@ -118,12 +152,13 @@ class ArcLengthStepper(PathStepper):
         if min_step is None:
             min_step = min(dl0 / 2**MAX_HALVINGS, max_step if max_step is not None else np.inf)
         if max_step is None:
-            max_step = max(MAX_STEP_FACTOR * dl0, min_step)
+            max_step = max(MAX_STEP_SHARE * p.length_scale * np.sqrt(p.n), dl0, min_step)
         self.min_step, self.max_step = float(min_step), float(max_step)
         self.h = min(max(self.h, self.min_step), self.max_step)
         self.switched = False
+        self._predictor: tuple[np.ndarray, float] | None = None   # (Δu, Δλ) of the last predictor
+        self.n_rejected = 0                 # converged points rejected by the guards
         self._branch_mode: np.ndarray | None = None
-        self._branch_index = -1          # path index of the switch point
 
     # -- first step -------------------------------------------------------------
     def _auto_step(self) -> float:
@@ -138,34 +173,32 @@ class ArcLengthStepper(PathStepper):
         return lam_c / AUTO_STEPS * self.metric.norm(u1, 1.0)
 
     def _event_estimate(self, u1) -> float:
-        """Smallest λ at which the linear response closes a contact or first yields."""
-        asm = self.problem.assembly
+        """Smallest λ at which the linear response raises an event of a group.
+
+        Each event value (contact gap, yield margin, cable stretch) is taken as linear
+        in λ between the start and the linear response to λ = 1, u0 + u1.
+        """
+        p = self.problem
+        rec0 = self._points[0].record
+        rec1 = p.with_states(self.history).record(self.u + u1, 1.0)
         out = np.inf
-        if asm.has_contacts:
-            g0 = asm.contact_response(np.zeros(asm.n_dof)).g
-            g1 = asm.contact_response(asm.expand(u1)).g
-            closing = g1 < g0
-            if closing.any():
-                out = min(out, float(np.min(g0[closing] / (g0[closing] - g1[closing]))))
-        m1 = asm.point_data(asm.expand(u1)).get("yield_margin")
-        if m1 is not None and float(m1) > -1.0:
-            out = min(out, 1.0 / (float(m1) + 1.0))    # the margin is E·|ε|/fy − 1, linear in λ
+        for e in self.assembly.events:
+            v0, v1 = e.values(rec0), e.values(rec1)
+            toward = (v0 < 0.0) & (v1 > v0) if e.direction > 0 else (v0 > 0.0) & (v1 < v0)
+            if toward.any():
+                out = min(out, float(np.min(v0[toward] / (v0[toward] - v1[toward]))))
         return out
 
     def _buckling_estimate(self) -> float:
         from ..buckling import buckling
         try:
             res = buckling(self.structure, modes=1)
-        except (ModelError, ArithmeticError, RuntimeError, ValueError):  # estimate only
+        except (ModelError, ArithmeticError, RuntimeError, ValueError) as exc:  # estimate only
+            log.info("no buckling estimate for the first arc-length step: %s", exc)
             return np.inf
         return float(res.load_factors[0]) if len(res) else np.inf
 
     # -- stepping -------------------------------------------------------------------
-    def _previous_increment(self):
-        if self.n_steps == 0 and not self.switched:
-            return None
-        return self.u - self.u_prev, self.lam - self.lam_prev
-
     def _predict(self, h: float):
         m = self.metric
         if self._branch_mode is not None:
@@ -183,6 +216,7 @@ class ArcLengthStepper(PathStepper):
             sense = 1.0 if self._sense_metric.dot(prev[0], prev[1], v, 1.0) >= 0.0 else -1.0
         dlam = sense * h / norm
         u_pred, lam_pred = self.u + dlam * v, self.lam + dlam
+        self._predictor = (dlam * v, dlam)
         if self.constraint in ("cylindrical", "spherical"):
             c = QuadraticConstraint(m, self.u, self.lam, h)
         elif self.constraint == "normal-plane":
@@ -190,6 +224,46 @@ class ArcLengthStepper(PathStepper):
         else:
             c = LinearisedConstraint(m, self.u, self.lam, h)
         return u_pred, lam_pred, c
+
+    def _attempt(self, h: float):
+        res = super()._attempt(h)
+        if res is None or not res.converged or self._branch_mode is not None:
+            return res
+        why = self._doubled_back(res)
+        if why is None:
+            return res
+        self.n_rejected += 1
+        log.info("converged point at λ = %.6g rejected (step %.3g): %s", res.lam, h, why)
+        return NewtonResult(False, res.u, res.lam, res.iterations, res.residuals,
+                            f"Converged point rejected: {why}")
+
+    def _doubled_back(self, res) -> str | None:
+        """Why a converged point is no continuation of the path, or None if it is.
+
+        Rejected: an increment against the previous one (negative inner product in
+        the metric with ψ = 1), a point on one of the last points, and for the plane
+        constraints an increment far from the predictor (``MIN_PREDICTOR_COSINE``).
+        """
+        Du, Dlam = res.u - self.u, res.lam - self.lam
+        sm = self._sense_metric
+        length = sm.norm(Du, Dlam)
+        prev = self._previous_increment()
+        if prev is not None and sm.dot(prev[0], prev[1], Du, Dlam) < 0.0:
+            return "the increment turns back against the previous one"
+        n = self.n_points
+        for i in range(max(n - REVISIT_WINDOW, 0), n):
+            pt = self._points[i]
+            if sm.norm(res.u - pt.u, res.lam - pt.lam) <= REVISIT_SHARE * length:
+                return f"it lands on point {i}"
+        landed = self.target is not None and res.lam == self.target
+        if self.constraint in ("normal-plane", "updated-normal-plane") and not landed \
+                and self._predictor is not None:
+            m, (t_u, t_lam) = self.metric, self._predictor
+            den = m.norm(Du, Dlam) * m.norm(t_u, t_lam)
+            cos = m.dot(Du, Dlam, t_u, t_lam) / den if den > 0.0 else 0.0
+            if cos < MIN_PREDICTOR_COSINE:
+                return f"the increment is {np.degrees(np.arccos(min(max(cos, -1.0), 1.0))):.0f}° off the predictor"
+        return None
 
     def _branch_predictor(self):
         phi = self._branch_mode
@@ -207,7 +281,7 @@ class ArcLengthStepper(PathStepper):
         if switching:
             # the next steps start at the length of the switch step, and the bound
             # on them is re-based on it (the secondary branch has its own scale)
-            h = self.metric.norm(self.u - self.u_prev, self.lam - self.lam_prev)
+            h = self.metric.norm(*self._previous_increment())
             if not self._user_max_step:
                 self.max_step = max(self.max_step, MAX_STEP_FACTOR * h)
             self.h = min(max(h, self.min_step), self.max_step)
@@ -218,39 +292,32 @@ class ArcLengthStepper(PathStepper):
         f = min(max(f, MIN_FACTOR), MAX_FACTOR)
         self.h = min(max(self.h * f, self.min_step), self.max_step)
 
-    def _on_critical(self, cp, info) -> None:
-        if self.follow != "secondary" or self.switched or cp.kind != "bifurcation":
-            return
-        res = info["newton"]
+    def _switch_point(self, a, critical, info):
+        """At the first bifurcation with ``follow="secondary"``: the bifurcation point itself."""
+        if self.follow != "secondary" or self.switched or not critical \
+                or critical[0].kind != "bifurcation":
+            return None
+        cp, res = critical[0], info["newton"]
         if not cp.located or res is None:
             log.warning("bifurcation at λ = %.6g not located; staying on the primary path",
                         cp.load_factor)
-            return
-        # replace the point past the bifurcation by the bifurcation point itself
-        self._unrecord()
-        self.u, self.lam = res.u, res.lam
-        self.u_prev, self.lam_prev = self.u, self.lam
-        self._fact = res.factorization
-        self._record(res)
-        # the point is marginal: count it with the side of fewer negative eigenvalues
-        self._n_negative[-1] = min(self._n_negative[-2], self._n_negative[-1])
-        self._branch_index = len(self._points_lam) - 1
-        free = self.assembly.free
-        self._branch_mode = cp.mode[free]
+            return None
+        # the point past the bifurcation is replaced by the bifurcation point, which
+        # is marginal: counted with the side of fewer negative eigenvalues
+        rec = self._new_point(res, continuous=False, problem=self.problem.with_states(a.history))
+        rec.n_negative = a.n_negative
+        self._branch_mode = cp.mode[self.assembly.free]
         log.info("switching to the secondary branch at λ = %.9g", cp.load_factor)
+        return rec, res.factorization
 
-    def _critical_event(self) -> None:
-        # the first branch point differs in stability from the (marginal) switch
-        # point by construction; that is not a new critical point
-        if len(self._points_lam) - 2 == self._branch_index:
-            return
-        super()._critical_event()
+    def result(self):
+        path = super().result()
+        path.counters["rejected_points"] = self.n_rejected   # among the step cuts
+        return path
 
     def state(self) -> dict:
         out = super().state()
-        out.update(constraint=self.constraint, psi=self.psi, switched=self.switched,
-                   lam_prev=getattr(self, "lam_prev", 0.0),
-                   u_prev=getattr(self, "u_prev", self.u).copy())
+        out.update(constraint=self.constraint, psi=self.psi, switched=self.switched)
         return out
 
 

@@ -4,14 +4,18 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable
 
-from ..model import Structure
+import numpy as np
+
+from typing import Iterator
+
+from ..model import DOFS, Structure
 from ..results import EquilibriumPath, Point
 from .arc_length import ArcLengthStepper, check_options
 from .displacement_control import DisplacementStepper
 from .load_control import LoadStepper
-from .stepper import PathStepper
+from .stepper import PathStepper, checked_option
 
-__all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "StepControl"]
+__all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "run", "iterate", "StepControl"]
 
 #: Steps taken when neither a target, a stop condition nor ``max_steps`` ends the trace.
 DEFAULT_MAX_STEPS = 500
@@ -39,6 +43,10 @@ class by_load(StepControl):
     step: float
     min_step: float | None = None
 
+    def __post_init__(self) -> None:
+        checked_option("step", self.step, nonzero=True)
+        checked_option("min_step", self.min_step, positive=True, allow_none=True)
+
     def stepper(self, structure, **options) -> LoadStepper:
         return LoadStepper(structure, self.step, min_step=self.min_step, **options)
 
@@ -54,6 +62,16 @@ class by_displacement(StepControl):
     dof: str
     step: float
     min_step: float | None = None
+
+    def __post_init__(self) -> None:
+        if isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)) \
+                or self.node < 0:
+            raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer), "
+                            f"got {self.node!r}.")
+        if self.dof not in DOFS:
+            raise ValueError(f"by_displacement: `dof` must be one of {', '.join(DOFS)}, got {self.dof!r}.")
+        checked_option("step", self.step, nonzero=True)
+        checked_option("min_step", self.min_step, positive=True, allow_none=True)
 
     def stepper(self, structure, **options) -> DisplacementStepper:
         return DisplacementStepper(structure, self.node, self.dof, self.step,
@@ -80,8 +98,8 @@ class by_arc_length(StepControl):
     desired_iterations : int
         Newton iterations per point that the step adaptation (Ramm 1981) aims at.
     min_step, max_step : float, optional
-        Bounds on the arc length (defaults: first step/1024 and 4 first steps; after a
-        branch switch the bound is re-based on the switch step).
+        Bounds on the arc length (defaults: first step/1024, and a step that moves
+        the free DOFs by 5 % of the structure's size in the root mean square).
     branch_sign : int
         +1 or −1: which way along the critical mode ``follow="secondary"`` goes.
 
@@ -118,7 +136,7 @@ class by_arc_length(StepControl):
 
 def trace(structure: Structure, control: StepControl, *, target_load_factor: float | None = None,
           max_steps: int | None = None, stop: Callable[[Point], bool] | None = None,
-          callback: Callable[[Point], None] | None = None, tol: float = 1e-8,
+          callback: Callable[[Point], None] | None = None, events=None, tol: float = 1e-8,
           tol_u: float = 1e-6, max_iterations: int = 25,
           follow: str = "primary") -> EquilibriumPath:
     """Trace the equilibrium path of a structure.
@@ -126,6 +144,7 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
     Parameters
     ----------
     structure : Structure
+        Its frozen snapshot is traced: editing it afterwards leaves the path unchanged.
     control : by_load, by_displacement or by_arc_length
         How each step is taken.
     target_load_factor : float, optional
@@ -136,6 +155,11 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
         ``stop(point) -> bool`` on each new converged point; True ends the trace.
     callback : callable, optional
         ``callback(point)`` on each new converged point (progress, live plots).
+    events : callable or list of callables, optional
+        ``f(point) -> float``; where it changes sign between two points an event is
+        located by root finding and recorded in ``path.events``. As in scipy's
+        ``solve_ivp``, ``f.terminal = True`` ends the trace there and ``f.direction``
+        (+1, −1 or 0) picks rising, falling or both crossings.
     tol, tol_u, max_iterations
         Newton's convergence criteria (see :mod:`largerot.solvers.newton`).
     follow : str
@@ -146,41 +170,63 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
     -------
     EquilibriumPath
         Whatever was traced, with ``status`` and ``message``; a failed step never
-        loses the points before it.
+        loses the points before it, and an interrupt (the notebook's stop button)
+        returns the path so far with status ``"interrupted"``.
     """
     if not isinstance(control, StepControl):
         raise TypeError(f"`control` must be lr.by_load(...), lr.by_displacement(...) or "
                         f"lr.by_arc_length(...), got {control!r}.")
-    if max_steps is None:
-        max_steps = DEFAULT_MAX_STEPS
-    if int(max_steps) < 0:
-        raise ValueError(f"`max_steps` must be non-negative, got {max_steps!r}.")
+    max_steps = DEFAULT_MAX_STEPS if max_steps is None else max_steps
+    max_steps = checked_option("max_steps", max_steps, integer=True, lower=0)
     if follow not in ("primary", "secondary"):
         raise ValueError(f"`follow` must be 'primary' or 'secondary', got {follow!r}.")
+    for name, f in (("stop", stop), ("callback", callback)):
+        if f is not None and not callable(f):
+            raise TypeError(f"`{name}` must be a function of a point, got {f!r}.")
     extra = {}
     if follow != "primary":
         if not isinstance(control, by_arc_length):
             raise ValueError(f"follow={follow!r} needs lr.by_arc_length(...) control, got {control!r}.")
         extra["follow"] = follow
     st = control.stepper(structure, tol=tol, tol_u=tol_u, max_iterations=max_iterations,
-                         target_load_factor=target_load_factor, **extra)
-    return run(st, max_steps=int(max_steps), stop=stop, callback=callback)
+                         target_load_factor=target_load_factor, events=events, **extra)
+    return run(st, max_steps=max_steps, stop=stop, callback=callback)
 
 
-def run(stepper: PathStepper, max_steps: int, stop=None, callback=None) -> EquilibriumPath:
-    """Run a stepper until it finishes, fails, ``stop`` says so, or ``max_steps``."""
+def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Point]:
+    """Step until the trace ends (or ``max_steps`` points), yielding each converged point.
+
+    The driver of live views: ``for point in lr.iterate(st): ...``. Ends with the
+    stepper's status set (``"max_steps"`` when the count ran out). An interrupt
+    leaves the stepper at its last converged point, able to go on.
+    """
+    if max_steps is not None:
+        max_steps = checked_option("max_steps", max_steps, integer=True, lower=0)
     taken = 0
-    while stepper.status == "running":
-        if taken >= max_steps:
+    while stepper.running:
+        if max_steps is not None and taken >= max_steps:
             stepper.finish("max_steps")
-            break
+            return
         stepper.step()
         taken += 1
-        if stepper.status == "failed":
-            break
-        point = stepper.last_point()
-        if callback is not None:
-            callback(point)
-        if stepper.status == "running" and stop is not None and stop(point):
-            stepper.finish("stopped")
+        if stepper.status != "failed":
+            yield stepper.last_point()
+
+
+def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
+        callback=None) -> EquilibriumPath:
+    """Run a stepper until it ends, ``stop`` says so, or ``max_steps``; return the path.
+
+    A KeyboardInterrupt ends the run with status ``"interrupted"`` and the path traced
+    so far; ``stepper.resume()`` then goes on from the last converged point.
+    """
+    try:
+        for point in iterate(stepper, max_steps):
+            if callback is not None:
+                callback(point)
+            if stepper.running and stop is not None and stop(point):
+                stepper.finish("stopped")
+    except KeyboardInterrupt:
+        if stepper.running:
+            stepper.finish("interrupted")
     return stepper.result()

@@ -20,10 +20,12 @@ class DisplacementStepper(PathStepper):
     def __init__(self, structure, node: int, dof: str, step: float, **options) -> None:
         if not step:
             raise ValueError(f"The displacement step must be non-zero, got {step!r}.")
-        structure._check_node(node, "by_displacement")
-        self.node, self.dof = int(node), dof
-        g = 3 * self.node + dof_index(dof)
+        n = getattr(structure, "n_nodes", 0)
+        if not 0 <= int(node) < n:
+            raise ModelError(f"by_displacement: unknown node {node!r} (the structure has {n} nodes).")
+        g = 3 * int(node) + dof_index(dof)
         super().__init__(structure, step, **options)
+        self.node, self.dof = int(node), dof
         j = int(self.assembly.free_index[g])
         if j < 0:
             raise ModelError(f"by_displacement: node {node} {dof} is not a free DOF "

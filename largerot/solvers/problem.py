@@ -1,23 +1,37 @@
-"""The discrete equilibrium problem r(u, λ) = λ·F_ref + F_const − f_int(u) on free DOFs."""
+"""The discrete equilibrium problem r(u, λ) = λ·F_ref + F_const − f_int(u) on free DOFs.
+
+A :class:`Problem` is a stepper's view of its model: residual and tangent as
+functions of the free displacements and λ, evaluated with the history ``states``
+that the stepper owns and hands it. It remembers its last evaluation, so the
+work done at a converged point (forces, trial history, per-point data) is reused
+instead of recomputed.
+"""
 from __future__ import annotations
+
+import copy
 
 import numpy as np
 
-from ..assembly import Assembly
+from ..assembly import Assembly, Evaluation
 
 __all__ = ["Problem"]
 
+_TINY = float(np.finfo(float).tiny)
+
 
 class Problem:
-    """Residual and tangent of a structure as functions of free displacements and λ.
+    """Residual and tangent of a model as functions of free displacements and λ.
 
     Parameters
     ----------
     assembly : Assembly
+    states : list, optional
+        The groups' history to evaluate with (default: virgin).
     """
 
-    def __init__(self, assembly: Assembly) -> None:
+    def __init__(self, assembly: Assembly, states: list | None = None) -> None:
         self.assembly = assembly
+        self.states = assembly.initial_states() if states is None else list(states)
         #: reference load over the free DOFs (∂r/∂λ); with follower loads it is the
         #: one at the last evaluated state
         self.F = assembly.F_ref[assembly.free]
@@ -30,6 +44,7 @@ class Problem:
         # weights so that rotations count like displacements of the structure's size
         self.weights = np.where(assembly.free % 3 == 2, L, 1.0)
         self.length_scale = L
+        self._last: tuple | None = None      # (u, lam, Evaluation) of the last evaluation
 
     @property
     def n(self) -> int:
@@ -41,6 +56,12 @@ class Problem:
     def external(self, lam: float) -> np.ndarray:
         return lam * self.F + self.const_factor * self.F_const
 
+    def with_states(self, states: list) -> "Problem":
+        """The same problem evaluated with other history (counters shared by value)."""
+        p = copy.copy(self)
+        p.states, p._last = list(states), None
+        return p
+
     def residual(self, u: np.ndarray, lam: float, tangent: bool = True):
         """Return ``(r, K, scale)``: residual (n_free,), tangent, and force yardstick.
 
@@ -51,24 +72,26 @@ class Problem:
         self.n_evaluations += 1
         a = self.assembly
         uf = self.full(u)
-        f, K, scale, _ = a.evaluate(uf, tangent, lam, self.const_factor)
+        ev = a.evaluate(uf, self.states, tangent, lam, self.const_factor)
         if a.has_followers:
             F_ref, F_const = a.external(uf)
             self.F, self.F_const = F_ref[a.free], F_const[a.free]
         ext = self.external(lam)
-        r = ext - f[self.assembly.free]
-        scale = max(scale, float(np.linalg.norm(ext)), np.finfo(float).tiny)
-        return r, K, scale
+        r = ext - ev.f[a.free]
+        scale = max(ev.scale, float(np.linalg.norm(ext)), _TINY)
+        self._last = (u.copy(), float(lam), ev)
+        return r, ev.K, scale
 
-    def point_data(self, u: np.ndarray) -> dict:
-        """Per-point results worth keeping along the path (e.g. which cables are slack).
+    def evaluation(self, u: np.ndarray, lam: float) -> Evaluation:
+        """The evaluation at (u, λ): the last one if it was there, else a new one."""
+        last = self._last
+        if last is None or last[1] != lam or not np.array_equal(last[0], u):
+            self.residual(u, lam, tangent=False)
+        return self._last[2]
 
-        Returns a dict of name -> ndarray; the path stacks each over its points in
-        ``path.extra[name]``. Element kinds add their entries through
-        ``Assembly.point_data``.
-        """
-        fn = getattr(self.assembly, "point_data", None)
-        return fn(self.full(u)) if fn is not None else {}
+    def record(self, u: np.ndarray, lam: float) -> dict:
+        """Per-point data worth keeping at a converged (u, λ) (see ``Assembly.record``)."""
+        return self.assembly.record(self.evaluation(u, lam))
 
     def norm(self, du: np.ndarray) -> float:
         """Weighted displacement norm (rotations scaled by the structure's size)."""

@@ -1,39 +1,100 @@
 """Path steppers: advance along the equilibrium path one converged point at a time.
 
 Modelled on scipy's ODE solver objects: a stepper has a public :meth:`PathStepper.step`,
-a ``status`` (``"running"``, ``"finished"``, ``"failed"``), its current state
-(``u``, ``lam``, the step size ``h``) and counters. The state is plain arrays and
-numbers, so it can be saved, resumed or sent elsewhere; the factorisation it keeps
-is only a cache.
+a ``status`` from the one table :data:`~largerot.solvers.status.STATUS`, its current
+state (``u``, ``lam``, the step size ``h``, the history of yielding fibres and
+contacts) and counters.
+
+Who owns what
+    The stepper works on a frozen snapshot of the structure (``structure.snapshot()``),
+    so later edits of the structure never reach it or its path. Everything that
+    changes along the trace is the stepper's own plain data: the converged points
+    (one :class:`PointRecord` each, appended in one operation, so an interrupt
+    cannot leave them half-written), the committed history (on the last point),
+    the step size and the counters. The factorisation is a cache rebuilt on demand;
+    a stepper pickles, and an unpickled one goes on to the same end point.
 """
 from __future__ import annotations
 
 import logging
+import math
+from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..assembly import Assembly, dof_label
+from ..assembly import dof_label
 from ..errors import ModelError
 from ..linalg import SingularTangent, factorize
-from ..model import Structure
-from ..elements import contact
-from ..results import PATH_STATUS, CriticalPoint, EquilibriumPath, Event, Point
-from .critical import locate
+from ..results import CriticalPoint, EquilibriumPath, Event, Point
+from ..snapshot import Model
+from .critical import Bracket, locate
 from .equilibrium import settle
+from .events import crossings, locate_crossings, user_events
 from .newton import LoadConstraint, NewtonResult, newton
 from .problem import Problem
 from .stability import count_negative
+from .status import STATUS
 
-__all__ = ["PathStepper"]
+__all__ = ["PathStepper", "PointRecord", "checked_option"]
 
 log = logging.getLogger(__name__)
 
-#: Halve a failed step at most this many times before giving up (2⁻¹⁰ ≈ 1e-3 of it).
+#: Halve a failed step at most this many times by default (min_step = step/2¹⁰ ≈ 1e-3 of it).
 MAX_HALVINGS = 10
+#: Hard bound on the cuts of one step, whatever ``min_step`` says (2⁻⁶⁰ of a step is
+#: below any meaningful increment): the halving loop always ends.
+MAX_CUTS = 60
 #: A point that took at most this many iterations lets a cut step grow back.
 EASY_ITERATIONS = 4
 #: Ramp constant loads in at most this many increments if one step does not converge.
 CONSTANT_LOAD_RAMP = 64
+
+
+def checked_option(name: str, value, *, positive: bool = False, nonzero: bool = False,
+                   integer: bool = False, allow_none: bool = False, lower=None, upper=None):
+    """A solver option as a float (or int), or a ValueError/TypeError naming it."""
+    if value is None and allow_none:
+        return None
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, float, np.integer, np.floating)):
+        raise TypeError(f"`{name}` must be a number, got {value!r}.")
+    v = float(value)
+    if not math.isfinite(v):
+        raise ValueError(f"`{name}` must be finite, got {value!r}.")
+    if integer:
+        if v != int(v):
+            raise ValueError(f"`{name}` must be a whole number, got {value!r}.")
+        v = int(v)
+    if positive and v <= 0:
+        raise ValueError(f"`{name}` must be positive, got {value!r}.")
+    if nonzero and v == 0:
+        raise ValueError(f"`{name}` must be non-zero, got {value!r}.")
+    if lower is not None and v < lower:
+        raise ValueError(f"`{name}` must be at least {lower}, got {value!r}.")
+    if upper is not None and v >= upper:
+        raise ValueError(f"`{name}` must be below {upper}, got {value!r}.")
+    return v
+
+
+@dataclass
+class PointRecord:
+    """One converged point as the stepper keeps it (plain data).
+
+    ``continuous`` is False where the increment from the previous point is not a step
+    along the path (a branch switch); ``history`` is the committed history of the
+    groups, kept on the last point only.
+    """
+
+    lam: float
+    u: np.ndarray
+    iterations: int
+    residuals: np.ndarray
+    n_negative: int
+    arc: float
+    record: dict
+    continuous: bool = True
+    critical: tuple = ()
+    events: tuple = ()
+    history: list | None = field(default=None, repr=False)
 
 
 class PathStepper:
@@ -41,7 +102,8 @@ class PathStepper:
 
     Parameters
     ----------
-    structure : Structure
+    structure : Structure or Model
+        Its snapshot is taken now; later edits do not reach the trace.
     step : float
         Initial step in the control's own measure.
     min_step, max_step : float, optional
@@ -54,83 +116,116 @@ class PathStepper:
         Newton iterations per attempt.
     target_load_factor : float, optional
         The path ends exactly on this load factor.
+    events : callable or sequence of callables, optional
+        ``f(point) -> float``; a sign change between two points is an event, located
+        by root finding (attributes ``terminal`` and ``direction`` as in scipy).
     """
 
-    def __init__(self, structure: Structure, step: float, *, min_step: float | None = None,
+    def __init__(self, structure, step: float, *, min_step: float | None = None,
                  max_step: float | None = None, tol: float = 1e-8, tol_u: float = 1e-6,
-                 max_iterations: int = 25, target_load_factor: float | None = None) -> None:
-        if not isinstance(structure, Structure):
+                 max_iterations: int = 25, target_load_factor: float | None = None,
+                 events=None) -> None:
+        if not hasattr(structure, "snapshot"):
             raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
         for name, v in (("tol", tol), ("tol_u", tol_u)):
-            if not (np.isfinite(v) and 0 < v < 1):
-                raise ValueError(f"`{name}` must lie in (0, 1), got {v!r}.")
-        if int(max_iterations) < 1:
-            raise ValueError(f"`max_iterations` must be at least 1, got {max_iterations!r}.")
-        self.structure = structure
-        self.assembly = Assembly.of(structure)
-        self.assembly.reset_state()          # a new trace starts from the virgin material
+            checked_option(name, v, positive=True, upper=1.0)
+        max_iterations = checked_option("max_iterations", max_iterations, integer=True, lower=1)
+        self.h = checked_option("step", step, nonzero=True)
+        self.h_nominal = abs(self.h)
+        self.min_step = (checked_option("min_step", min_step, positive=True) if min_step is not None
+                         else self.h_nominal / 2**MAX_HALVINGS)
+        self.max_step = (checked_option("max_step", max_step, positive=True) if max_step is not None
+                         else np.inf)
+        self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
+        self.model: Model = structure.snapshot()
+        self.assembly = self.model.assembly
         self.problem = Problem(self.assembly)
         self.tol, self.tol_u, self.max_iterations = float(tol), float(tol_u), int(max_iterations)
-        self.target = None if target_load_factor is None else float(target_load_factor)
-        self.h = float(step)
-        self.h_nominal = abs(self.h)
-        self.min_step = abs(min_step) if min_step is not None else self.h_nominal / 2**MAX_HALVINGS
-        self.max_step = abs(max_step) if max_step is not None else np.inf
+        self.user_events = user_events(events)
         self.status = "running"
-        self.path_status = "running"
-        self.message = PATH_STATUS["running"]
+        self.message = STATUS["running"].message
         self.n_steps = 0
         self.n_cuts = 0
         self.n_factorizations = 0
-        n = self.problem.n
-        self.u = np.zeros(n)
-        self.lam = 0.0
+        self._points: list[PointRecord] = []
         self._fact = None
-        self._points_lam: list[float] = []
-        self._points_u: list[np.ndarray] = []
-        self._iterations: list[int] = []
-        self._residuals: list[np.ndarray] = []
-        self._n_negative: list[int] = []
-        self._arc: list[float] = []
-        self._extra: dict[str, list] = {}
-        self.critical_points: list[CriticalPoint] = []
-        self.events: list[Event] = []
         self.lam_scale = 1.0
         self._start()
+
+    @property
+    def structure(self) -> Model:
+        """The frozen model this stepper traces (kept for older code; see ``model``)."""
+        return self.model
+
+    # -- state, read from the last point -------------------------------------------
+    @property
+    def u(self) -> np.ndarray:
+        """Free displacements at the last converged point, shape (n_free,)."""
+        return self._points[-1].u
+
+    @property
+    def lam(self) -> float:
+        return self._points[-1].lam
+
+    @property
+    def history(self) -> list:
+        """The committed history of the groups at the last point (plain data)."""
+        return self._points[-1].history
+
+    @property
+    def n_points(self) -> int:
+        return len(self._points)
+
+    @property
+    def running(self) -> bool:
+        return self.status == "running"
+
+    def _previous_increment(self):
+        """(Δu, Δλ) from the point before the last to the last, or None."""
+        if len(self._points) < 2 or not self._points[-1].continuous:
+            return None
+        a, b = self._points[-2], self._points[-1]
+        return b.u - a.u, b.lam - a.lam
 
     # -- start ------------------------------------------------------------------
     def _start(self) -> None:
         p = self.problem
-        r, K, scale = p.residual(self.u, self.lam)
+        u = np.zeros(p.n)
+        history = self.assembly.initial_states()
+        r, K, scale = p.residual(u, 0.0)
         # measured against the reference load too: at rest the internal forces of a
         # stiff curved member are pure round-off, and so would be the yardstick
         if np.linalg.norm(r) > self.tol * max(scale, float(np.linalg.norm(p.F))):
             # constant loads, pretension or a cable's own length: out of balance at rest
-            if self.assembly.has_contacts:   # penalties from the structure at rest
-                try:
-                    self.assembly.set_contact_penalty(factorize(K, symmetric=p.symmetric), p.full(self.u))
-                except SingularTangent:
-                    pass
-            self._settle_constant_loads()
-            r, K, _ = p.residual(self.u, self.lam)
+            try:       # contact penalties from the structure at rest
+                history = self.assembly.calibrated(history, p.evaluation(u, 0.0),
+                                                   factorize(K, symmetric=p.symmetric))
+                p.states = list(history)
+            except SingularTangent:
+                pass
+            u = self._settle_constant_loads(u)
+            r, K, _ = p.residual(u, 0.0)
         try:
-            self._fact = factorize(K, symmetric=p.symmetric)
+            fact = factorize(K, symmetric=p.symmetric)
         except SingularTangent as exc:
             raise self._mechanism_error(K, exc) from None
         self.n_factorizations += 1
-        if self.assembly.has_contacts:
-            self.assembly.set_contact_penalty(self._fact, p.full(self.u))
+        ev = p.evaluation(u, 0.0)
+        history = self.assembly.calibrated(ev.states(), ev, fact)
         if p.F.any():
             # displacement per unit λ of the linear response: weighs λ against u in
             # the arc-length metric (and in ``path.arc_length``)
-            self.lam_scale = p.norm(self._fact.solve(p.F)) or 1.0
-        self._record(NewtonResult(True, self.u, 0.0, 0, np.array([]), "", self._fact))
+            self.lam_scale = p.norm(fact.solve(p.F)) or 1.0
+        self._fact = fact
+        rec = PointRecord(0.0, u, 0, np.array([]), count_negative(fact), 0.0, self.assembly.record(ev),
+                          history=history)
+        self._points.append(rec)
 
-    def _settle_constant_loads(self) -> None:
+    def _settle_constant_loads(self, u: np.ndarray) -> np.ndarray:
         """Equilibrium under the constant loads alone at λ = 0 (ramped in if needed)."""
         p = self.problem
-        done, frac, u = 0.0, 1.0, self.u
-        while done < 1.0:
+        done, frac = 0.0, 1.0
+        while done < 1.0:                  # bounded: frac halves to 1/CONSTANT_LOAD_RAMP
             p.const_factor = min(1.0, done + frac)
             res = settle(p, u, 0.0, self.tol, self.tol_u, self.max_iterations)
             if res.converged:
@@ -142,7 +237,7 @@ class PathStepper:
                     p.const_factor = 1.0
                     raise ModelError("The structure finds no equilibrium under its constant loads "
                                      f"alone (stalled at {done:.0%} of them): {res.message}")
-        self.u = u
+        return u
 
     def _mechanism_error(self, K, exc: SingularTangent) -> ModelError:
         free = self.assembly.free
@@ -159,30 +254,51 @@ class PathStepper:
 
         A step that does not converge is halved and tried again down to
         ``min_step``; past that the stepper fails, keeping every point traced.
+        An exception (an interrupt) leaves the stepper at its last converged point.
         """
         if self.status != "running":
-            raise RuntimeError(f"Attempt to step on a {self.status} stepper.")
-        while True:
+            raise RuntimeError(f"Attempt to step on a trace that has ended ({self.status}: "
+                               f"{self.message}); call resume() to go on.")
+        for _ in range(MAX_CUTS + 1):
+            self.problem.states = list(self.history)        # working copy of the history
             res = self._attempt(self.h)
             if res is not None and res.converged:
                 self._accept(res)
-                msg = f"Point {len(self._points_lam) - 1}: λ = {res.lam:.6g}, {res.message}"
-                if self.target is not None and abs(res.lam - self.target) <= 1e-12 * max(1.0, abs(self.target)):
+                msg = f"Point {self.n_points - 1}: λ = {self.lam:.6g}, {res.message}"
+                if self.status == "running" and self.target is not None and \
+                        abs(self.lam - self.target) <= 1e-12 * max(1.0, abs(self.target)):
                     self.finish("target")
                 return msg
-            self.assembly.restore_state()
             self.n_cuts += 1
-            self.h /= 2.0
             why = res.message if res is not None else "no predictor"
-            log.debug("step cut to %.3g: %s", self.h, why)
-            if abs(self.h) < self.min_step:
-                self.status = "failed"
-                self.path_status = "failed"
-                self.message = f"{PATH_STATUS['failed']} Last attempt: {why}"
-                return self.message
+            h = self.h / 2.0
+            log.debug("step cut to %.3g: %s", h, why)
+            if not abs(h) >= self.min_step:          # also catches NaN
+                return self._fail(why)
+            self.h = h
+        return self._fail(f"the step was cut {MAX_CUTS} times")
+
+    def _fail(self, why: str) -> str:
+        self.status = "failed"
+        self.message = f"{STATUS['failed'].message} Last attempt: {why}"
+        return self.message
+
+    def set_step(self, h: float, min_step: float | None = None) -> None:
+        """Set the step size (its sign sets the direction of load and displacement control).
+
+        ``min_step`` (default ``|h|``/2¹⁰) is the smallest step tried after cuts.
+        """
+        h = checked_option("step", h, nonzero=True)
+        self.h, self.h_nominal = h, abs(h)
+        self.min_step = (checked_option("min_step", min_step, positive=True) if min_step is not None
+                         else abs(h) / 2**MAX_HALVINGS)
+
+    def set_target(self, target_load_factor: float | None) -> None:
+        """Set (or with None remove) the load factor the trace ends on exactly."""
+        self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
 
     def resume(self, step: float | None = None, target_load_factor: float | None = None) -> None:
-        """Go on with a finished trace: e.g. unload after reaching a target.
+        """Go on with an ended trace: e.g. unload after reaching a target.
 
         ``step`` replaces the step size (for load and displacement control its sign
         sets the direction); ``target_load_factor`` is the new target (None: none).
@@ -191,25 +307,26 @@ class PathStepper:
         if self.status == "failed":
             raise RuntimeError("A failed trace cannot be resumed; start a new one.")
         if step is not None:
-            if not (np.isfinite(step) and step != 0.0):
-                raise ValueError(f"`step` must be non-zero and finite, got {step!r}.")
-            self.h, self.h_nominal = float(step), abs(float(step))
-            self.min_step = self.h_nominal / 2**MAX_HALVINGS
-        self.target = None if target_load_factor is None else float(target_load_factor)
-        self.status = self.path_status = "running"
-        self.message = PATH_STATUS["running"]
+            self.set_step(step)
+        self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
+        self.status = "running"
+        self.message = STATUS["running"].message
 
-    def finish(self, path_status: str) -> None:
-        """End the trace with one of :data:`~largerot.results.PATH_STATUS`."""
-        self.status = "finished"
-        self.path_status = path_status
-        self.message = PATH_STATUS[path_status]
+    def finish(self, status: str) -> None:
+        """End the trace with one of the words of :data:`~largerot.solvers.status.STATUS`."""
+        if status not in STATUS or status == "running":
+            raise ValueError(f"`status` must be one of {', '.join(w for w in STATUS if w != 'running')}, "
+                             f"got {status!r}.")
+        self.status = status
+        self.message = STATUS[status].message
 
     def _attempt(self, h: float) -> NewtonResult | None:
         pred = self._predict(h)
         if pred is None:
             return None
         u_pred, lam_pred, constraint = pred
+        if not (np.all(np.isfinite(u_pred)) and np.isfinite(lam_pred)):
+            return NewtonResult(False, self.u, self.lam, 0, np.array([]), "The predictor is not finite.")
         res = self._correct(u_pred, lam_pred, constraint)
         if res.converged and self.target is not None and self._crossed(res.lam):
             res = self._land(res)
@@ -219,27 +336,25 @@ class PathStepper:
         res = newton(self.problem, u_pred, lam_pred, constraint, self.u, self.tol, self.tol_u,
                      self.max_iterations)
         self.n_factorizations += res.iterations + 1
-        if res.converged and self.assembly.has_contacts:
-            res = self._settle_contacts(res)
+        if res.converged:
+            res = self._augment(res)
         return res
 
-    def _settle_contacts(self, res: NewtonResult) -> NewtonResult:
-        """Uzawa updates of the contact multipliers at a converged point.
+    def _augment(self, res: NewtonResult) -> NewtonResult:
+        """Update the constraint groups' multipliers (contacts) and solve the point again.
 
-        Each update sets the multipliers to the contact forces and solves the same
-        point again (λ held) until every contact meets the exact conditions to
-        within ``GAP_TOL`` × the structure's size (:mod:`largerot.elements.contact`).
+        Repeated, λ held, until every group is satisfied (for contacts: the exact
+        conditions to ``GAP_TOL`` × the structure's size, :mod:`largerot.elements.contact`).
         """
-        asm, p = self.assembly, self.problem
-        grp = next(g for g in asm.groups if g.kind == "contact")
-        tol_gap = contact.GAP_TOL * p.length_scale
+        from ..elements.contact import MAX_UPDATES
+        p = self.problem
         iterations = res.iterations
-        for _ in range(contact.MAX_UPDATES):
-            cr = asm.contact_response(p.full(res.u))
-            if contact.converged(cr, tol_gap):
+        for _ in range(MAX_UPDATES):
+            states = self.assembly.augmented(p.evaluation(res.u, res.lam), p.states)
+            if states is None:
                 return NewtonResult(True, res.u, res.lam, iterations, res.residuals, res.message,
                                     res.factorization, res.rate)
-            grp.state["lam"] = contact.updated_multipliers(cr)
+            p.states = states
             res = newton(p, res.u, res.lam, LoadConstraint(res.lam), self.u, self.tol,
                          self.tol_u, self.max_iterations)
             self.n_factorizations += res.iterations + 1
@@ -247,7 +362,7 @@ class PathStepper:
             if not res.converged:
                 return res
         return NewtonResult(False, res.u, res.lam, iterations, res.residuals,
-                            f"Contact conditions not met after {contact.MAX_UPDATES} multiplier updates.")
+                            f"Contact conditions not met after {MAX_UPDATES} multiplier updates.")
 
     def _crossed(self, lam: float) -> bool:
         t = self.target
@@ -257,134 +372,143 @@ class PathStepper:
         """Redo a step that passed the target so that it ends exactly on it."""
         t = (self.target - self.lam) / (res.lam - self.lam)
         u_pred = self.u + t * (res.u - self.u)
+        self.problem.states = list(self.history)
         return self._correct(u_pred, self.target, LoadConstraint(self.target))
 
+    # -- accepting a point ----------------------------------------------------------
+    def _new_point(self, res: NewtonResult, continuous: bool = True, problem=None) -> PointRecord:
+        """The record of a converged point, from the evaluation Newton made there."""
+        p = self.problem if problem is None else problem
+        ev = p.evaluation(res.u, res.lam)
+        fact = res.factorization
+        history = self.assembly.calibrated(ev.states(), ev, fact)
+        last = self._points[-1]
+        du = p.norm(res.u - last.u)
+        arc = last.arc + float(np.hypot(du, self.lam_scale * (res.lam - last.lam)))
+        return PointRecord(float(res.lam), res.u.copy(), int(res.iterations),
+                           np.asarray(res.residuals), count_negative(fact), arc,
+                           self.assembly.record(ev), continuous, history=history)
+
     def _accept(self, res: NewtonResult) -> None:
-        self.u_prev, self.lam_prev = self.u, self.lam
-        self.u, self.lam = res.u, res.lam
-        self._fact = res.factorization
-        self._record(res)
+        """Record a converged point with its critical points and events; one append commits it."""
+        rec = self._new_point(res)
+        a = self._points[-1]
+        critical, info = (), None
+        # a point reached from a marginal one (a branch switch) differs from it in
+        # stability by construction: no new critical point there
+        if rec.n_negative != a.n_negative and a.continuous:
+            cp, info = self._critical_point(a, rec)
+            critical = (cp,)
+        terminal = None
+        if self.user_events or self.assembly.events:
+            events, terminal = self._locate_events(a, rec)
+            rec.events = tuple(events)
+        rec.critical = critical
+        fact = res.factorization
+        switch = self._switch_point(a, critical, info)
+        if switch is not None:
+            rec, fact = switch
+            rec.critical = critical
+        self._fact = fact
+        self._points.append(rec)                     # the commit
+        a.history = None                             # only the last point keeps it
         self.n_steps += 1
         self._adapt(res)
-        self._events()
-        if self._n_negative[-1] != self._n_negative[-2]:
-            self._critical_event()
-        self.assembly.commit_state(self.problem.full(self.u))
-        if self.assembly.has_contacts:
-            self.assembly.set_contact_penalty(self._fact, self.problem.full(self.u))
+        if terminal is not None and self.status == "running":
+            self.status, self.message = "event", f"{STATUS['event'].message} ({terminal})"
 
-    def _events(self) -> None:
-        """Events between the last two points: first yield, contacts, cables.
-
-        An event function that is smooth on the side before the event (the yield
-        margin while elastic, the gap while open, the contact force while closed) is
-        extrapolated from its two points before it to its zero.
-        """
-        ex, i = self._extra, len(self._points_lam) - 2
-        lam = self._points_lam
-
-        def crossing(f):           # f: the event function's history, last axis points
-            if i < 1 or f[-3] == f[-2]:
-                return lam[i + 1]
-            t = f[-2] / (f[-3] - f[-2])
-            x = lam[i] + t * (lam[i] - lam[i - 1]) if t >= 0 else lam[i + 1]
-            return min(max(x, min(lam[i], lam[i + 1])), max(lam[i], lam[i + 1]))
-
-        if "yield_margin" in ex:
-            m = [float(v) for v in ex["yield_margin"][-3:]]
-            if m[-2] < 0.0 <= m[-1]:
-                self.events.append(Event("first yield", i, crossing(m)))
-        if "contact_event" in ex:
-            a, b = ex["contact_event"][-2], ex["contact_event"][-1]
-            nodes = self.assembly.contact_nodes
-            for kind, hit, f in (("contact closes", (a > 0) & (b <= 0), ex["gap"]),
-                                 ("contact opens", (a <= 0) & (b > 0), ex["contact_force"])):
-                for k in np.flatnonzero(hit):
-                    self.events.append(Event(kind, i, crossing([v[k] for v in f[-3:]]),
-                                             f"node {nodes[k]}"))
-        if "slack" in ex:
-            a, b = ex["slack"][-2], ex["slack"][-1]
-            bars = np.flatnonzero(self.assembly.cable)
-            for kind, hit in (("cable slack", ~a & b), ("cable taut", a & ~b)):
-                for k in np.flatnonzero(hit):
-                    self.events.append(Event(kind, i, lam[i + 1], f"bar element {bars[k]}"))
-
-    def _critical_event(self) -> None:
-        """Locate the critical point between the last two points (an event)."""
-        i = len(self._points_lam) - 2
-        info = locate(self.problem, self.lam_scale, self._points_u[i], self._points_lam[i],
-                      self._points_u[i + 1], self._points_lam[i + 1], self._n_negative[i],
-                      self._n_negative[i + 1], self.tol, self.tol_u, self.max_iterations)
+    def _critical_point(self, a: PointRecord, b: PointRecord):
+        """Locate the critical point between the last point and a new one (an event)."""
+        i = len(self._points) - 1
+        info = locate(self.problem.with_states(a.history), self.lam_scale, a.u, a.lam, b.u, b.lam,
+                      a.n_negative, b.n_negative, self.tol, self.tol_u, self.max_iterations)
         self.n_factorizations += info["n_factorizations"]
+        free = self.assembly.free
         cp = CriticalPoint(info["kind"], info["lam"], i, self.assembly.expand(info["u"]),
-                           self.assembly.expand(_normalised_mode(info["mode"], self.assembly.free)),
+                           self.assembly.expand(_normalised_mode(info["mode"], free)),
                            located=info["located"], load_cosine=info["load_cosine"])
-        self.critical_points.append(cp)
         log.info("%s point at λ = %.9g after point %d", cp.kind, cp.load_factor, i)
-        self._on_critical(cp, info)
+        return cp, info
 
-    def _on_critical(self, cp: CriticalPoint, info: dict) -> None:
-        """Hook for subclasses (branch switching); nothing by default."""
+    def _locate_events(self, a: PointRecord, b: PointRecord):
+        i = len(self._points) - 1
+        pa, pb = self._point_of(i, a), self._point_of(i + 1, b)
+        found = crossings(self.assembly.events, self.user_events, a.record, b.record, pa, pb)
+        if not found:
+            return [], None
+        prob = self.problem.with_states(a.history)
+        br = Bracket(prob, self.lam_scale, a.u, a.lam, b.u, b.lam, self.tol, self.max_iterations)
+        located = locate_crossings(found, br, lambda r: prob.record(r.u, r.lam),
+                                   lambda r: Point(self.model, i, r.lam, self.assembly.expand(r.u)))
+        self.n_factorizations += br.n_factorizations
+        events, terminal = [], None
+        for c, sigma, lam, ok in located:
+            detail = c.detail if ok else (c.detail + " (interpolated)").strip()
+            events.append(Event(c.event.kind, i, lam, detail))
+            if c.terminal and terminal is None:
+                terminal = c.event.kind
+        return events, terminal
 
-    def _unrecord(self) -> None:
-        """Drop the last recorded point (a branch switch replaces it)."""
-        for lst in (self._points_lam, self._points_u, self._iterations, self._residuals,
-                    self._n_negative, self._arc):
-            lst.pop()
-        for v in self._extra.values():
-            v.pop()
+    def _switch_point(self, a: PointRecord, critical: tuple, info):
+        """Hook for branch switching: ``(record, factorisation)`` replacing the new point, or None."""
+        return None
 
     def _adapt(self, res: NewtonResult) -> None:
         """After an easy point, let a cut step grow back toward its nominal size."""
         if res.iterations <= EASY_ITERATIONS and abs(self.h) < self.h_nominal:
             self.h = np.sign(self.h) * min(2 * abs(self.h), self.h_nominal, self.max_step)
 
-    def _record(self, res: NewtonResult) -> None:
-        self._points_lam.append(float(res.lam))
-        self._points_u.append(res.u.copy())
-        self._iterations.append(int(res.iterations))
-        self._residuals.append(np.asarray(res.residuals))
-        self._n_negative.append(count_negative(res.factorization))
-        if self._arc:
-            du = self.problem.norm(res.u - self._points_u[-2])
-            self._arc.append(self._arc[-1] + float(np.hypot(du, self.lam_scale * (res.lam - self._points_lam[-2]))))
-        else:
-            self._arc.append(0.0)
-        for k, v in self.problem.point_data(res.u).items():
-            self._extra.setdefault(k, []).append(v)
-
     def _predict(self, h: float):
         """Return ``(u_pred, lam_pred, constraint)`` for a step ``h``, or None."""
         raise NotImplementedError
 
     # -- views ------------------------------------------------------------------------
+    def factorization(self):
+        """The factorised tangent at the last point (rebuilt if not cached)."""
+        if self._fact is None:
+            p = self.problem.with_states(self.history)
+            _, K, _ = p.residual(self.u, self.lam)
+            self._fact = factorize(K, symmetric=p.symmetric)
+            self.n_factorizations += 1
+            if self.assembly.has_followers:         # F of the follower loads at u
+                self.problem.F, self.problem.F_const = p.F, p.F_const
+        return self._fact
+
     def tangent_direction(self) -> np.ndarray:
         """δu_F = K⁻¹·F at the current point, shape (n_free,)."""
-        return self._fact.solve(self.problem.F)
+        return self.factorization().solve(self.problem.F)
+
+    def _point_of(self, i: int, rec: PointRecord) -> Point:
+        return Point(self.model, i, rec.lam, self.assembly.expand(rec.u), rec.iterations)
 
     def last_point(self) -> Point:
-        i = len(self._points_lam) - 1
-        return Point(self.structure, i, self.lam, self.assembly.expand(self.u), self._iterations[-1])
+        return self._point_of(self.n_points - 1, self._points[-1])
 
     def state(self) -> dict:
         """The stepper's state as plain data (arrays and numbers)."""
         return {"u": self.u.copy(), "lam": self.lam, "h": self.h, "status": self.status,
-                "path_status": self.path_status, "n_steps": self.n_steps,
-                "history": self.assembly.state_data()}
+                "n_steps": self.n_steps, "history": self.history}
+
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state["_fact"] = None                        # a cache of SuperLU objects: rebuilt
+        return state
 
     def result(self) -> EquilibriumPath:
         """The path traced so far."""
+        pts = list(self._points)
         counters = {"steps": self.n_steps, "step_cuts": self.n_cuts,
                     "factorizations": self.n_factorizations,
                     "residual_evaluations": self.problem.n_evaluations}
-        return EquilibriumPath(self.structure, self.assembly.free, self._points_lam,
-                               np.array(self._points_u), self._iterations, self._residuals,
-                               self._n_negative, self.path_status, self.message,
-                               critical_points=list(self.critical_points),
-                               events=list(self.events),
-                               counters=counters,
-                               extra={k: np.array(v) for k, v in self._extra.items()},
-                               arc_length=np.array(self._arc))
+        keys = pts[0].record.keys() if pts else ()
+        return EquilibriumPath(
+            self.model, self.assembly.free, [r.lam for r in pts], np.array([r.u for r in pts]),
+            [r.iterations for r in pts], [r.residuals for r in pts], [r.n_negative for r in pts],
+            self.status, self.message, status_code=STATUS[self.status].code,
+            critical_points=[c for r in pts for c in r.critical],
+            events=[e for r in pts for e in r.events], counters=counters,
+            extra={k: np.array([r.record[k] for r in pts]) for k in keys},
+            arc_length=np.array([r.arc for r in pts]))
 
 
 def _normalised_mode(phi: np.ndarray, free: np.ndarray) -> np.ndarray:

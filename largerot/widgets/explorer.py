@@ -97,15 +97,18 @@ class Explorer(w.VBox):
         t.link((self.menu, "value"), (self, "curve_of"))
         t.link((self.scale_box, "value"), (self, "scale"))
         t.link((self.force_buttons, "value"), (self, "forces"))
-        self.slider.observe(self._slider_moved, "value")
         if path is not None:
             self.show(path, node=node, dof=dof)
 
     # -- the point shown ------------------------------------------------------------
     @property
     def index(self) -> int:
-        """Frame shown (equal to the path point unless the path was subsampled)."""
-        return int(self.canvas.index)
+        """Frame shown (equal to the path point unless the path was subsampled).
+
+        The slider is the one source: in the browser it moves the canvas (jslink),
+        so a move made there needs no echo from Python to fight a playing animation.
+        """
+        return int(self.slider.value)
 
     @index.setter
     def index(self, i: int) -> None:
@@ -126,14 +129,6 @@ class Explorer(w.VBox):
         if self.path is None or not len(self.path):
             return {}
         return data.readout(self.path, self.point, self.curve_of[0])
-
-    def _slider_moved(self, change) -> None:
-        # a move made in the browser reached the canvas there already (jslink); follow
-        # only moves made in Python, so no stale echo fights a playing animation
-        if "value" in getattr(self.slider, "_property_lock", {}):
-            return
-        if self.canvas.index != change["new"]:
-            self.canvas.index = change["new"]
 
     # -- data -----------------------------------------------------------------------
     def show(self, path: EquilibriumPath, node: int | None = None, dof: str | None = None,

@@ -2,8 +2,10 @@
 
 The trace runs in a background thread; the view is refreshed at most every
 :data:`UPDATE_INTERVAL` seconds, so the notebook stays responsive and the browser is
-not flooded. Steps come from the library's stepper objects
-(``control.stepper(structure, ...)``); this module only calls them.
+not flooded. Steps come from the library's stepper objects through their public API
+only (``control.stepper(structure, ...)``, :func:`largerot.iterate`,
+``stepper.set_step``, ``stepper.set_target``); the status shown is the stepper's, a
+word of :data:`largerot.STATUS`.
 """
 from __future__ import annotations
 
@@ -17,6 +19,7 @@ import numpy as np
 import traitlets as t
 
 from ..model import DOFS
+from ..solvers import iterate
 from ._errors import shown_in_widget, show_error
 from .explorer import Explorer
 
@@ -76,7 +79,8 @@ class Live(w.VBox):
         Passed to ``control.stepper`` (``tol``, ``max_iterations``...).
     """
 
-    status = t.Unicode("idle", help="'idle', 'running', 'finished' or 'failed'.")
+    status = t.Unicode("running", help="The trace's status, a word of lr.STATUS ('running' until it ends).")
+    busy = t.Bool(False, help="True while a run goes on in the background thread.")
     target_kind = t.Enum(TARGETS, default_value="load factor", help="What a run runs to.")
     target = t.Float(1.0, help="Value of the run's target.")
     step_size = t.Float(0.1, help="Step of the control, in its own measure.")
@@ -170,9 +174,11 @@ class Live(w.VBox):
         """Run to the target in a background thread (``block=True`` waits for the end)."""
         if self._running():
             return
-        if self.stepper.status != "running":
-            raise RuntimeError(f"The trace is {self.stepper.status} ({self.stepper.message}); "
-                               "press reset to trace again.")
+        if not self.stepper.running:
+            self._say(f"The trace has ended ({self.stepper.status}: {self.stepper.message}); "
+                      "press reset to trace again.")
+            self._refresh()
+            return
         self._stop.clear()
         self._set_running(True)
         self._thread = threading.Thread(target=self._run_loop, name="largerot-live", daemon=True)
@@ -201,16 +207,13 @@ class Live(w.VBox):
         return self._thread is not None and self._thread.is_alive()
 
     def _set_running(self, running: bool) -> None:
-        self.status = "running" if running else self._final_status()
+        self.busy = running
+        self.status = self.stepper.status
         self.pause_button.disabled = not running
-        for b in (self.step_button, self.run_button, self.reset_button):
-            b.disabled = running
-
-    def _final_status(self) -> str:
-        st = getattr(self, "stepper", None)
-        if st is None or st.status == "running":
-            return "idle"
-        return st.status
+        ended = not self.stepper.running
+        for b in (self.step_button, self.run_button):
+            b.disabled = running or ended
+        self.reset_button.disabled = running
 
     def _now(self):
         """(λ, chosen displacement, points) of the last converged point."""
@@ -228,25 +231,29 @@ class Live(w.VBox):
         st = self.stepper
         msg = st.step()
         self._say(msg)
-        if st.status != "running":
+        if not st.running:
             self._say(f"Trace {st.status}: {st.message}")
         return msg
 
     def _run_loop(self) -> None:
         last = 0.0
+        st = self.stepper
         try:
-            while not self._stop.is_set():
-                with self._lock:
-                    if self.stepper.status != "running":
-                        break
-                    lam, u, n = self._now()
-                    if reached(self.target_kind, self.target, lam, u, n):
-                        self._say(f"Reached the target {self.target_kind} {self.target:g}.")
-                        break
-                    self._step_once()
-                    if time.monotonic() - last >= self.update_interval:
+            for point in iterate(st):
+                self._say(f"Point {point.index}: λ = {point.load_factor:.6g}, "
+                          f"{point.iterations} iterations.")
+                lam, u, n = self._now()
+                if reached(self.target_kind, self.target, lam, u, n):
+                    self._say(f"Reached the target {self.target_kind} {self.target:g}.")
+                    break
+                if self._stop.is_set():
+                    break
+                if time.monotonic() - last >= self.update_interval:
+                    with self._lock:
                         self._refresh()
-                        last = time.monotonic()
+                    last = time.monotonic()
+            if not st.running:
+                self._say(f"Trace {st.status}: {st.message}")
         except Exception as exc:  # shown in the widget, the thread must not die silently
             show_error(self, exc)
         finally:
@@ -275,8 +282,9 @@ class Live(w.VBox):
             self.n_points = len(self.path)
             lam, u, n = self._now()
             self.bar.value = progress(self.target_kind, self.target, lam, u, n)
+            self.status = self.stepper.status
             self.state_label.value = (f"&nbsp;{n} points, λ = {lam:.4g}, step {self.stepper.h:.3g}, "
-                                      f"<b>{self.stepper.status}</b>")
+                                      f"<b>{'running' if self.busy else self.stepper.status}</b>")
             self.log_view.value = "<pre style='margin:2px'>" + html.escape(
                 "\n".join(reversed(self.messages[-12:]))) + "</pre>"
 
@@ -291,9 +299,7 @@ class Live(w.VBox):
             raise ValueError(f"The step size must be positive, got {v!r}.")
         if abs(st.h) != v:
             with self._lock:
-                st.h = float(np.sign(st.h) or 1.0) * v
-                st.h_nominal = v
-                st.min_step = v / 2**10
+                st.set_step(float(np.sign(st.h) or 1.0) * v)
 
     @t.observe("target", "target_kind")
     @shown_in_widget
@@ -302,12 +308,12 @@ class Live(w.VBox):
         if st is None:
             return
         if self.target_kind == "load factor":
-            if st.status == "running":
-                st.target = float(self.target)
+            if st.running:
+                st.set_target(float(self.target))
             else:
                 self._say("The trace has ended; press reset to trace to a new load factor.")
-        elif st.status == "running":
-            st.target = self._target_load_factor
+        elif st.running:
+            st.set_target(self._target_load_factor)
 
 
 def live(structure, control, **options) -> Live:
@@ -317,7 +323,7 @@ def live(structure, control, **options) -> Live:
     >>> from largerot.demo import lighting_pole
     >>> s, base, top = lighting_pole(segments=4)
     >>> lv = lr.widgets.live(s, lr.by_load(0.25), node=top, dof="ux")
-    >>> lv.run(block=True); lv.n_points, lv.stepper.status
-    (5, 'finished')
+    >>> lv.run(block=True); lv.n_points, lv.status
+    (5, 'target')
     """
     return Live(structure, control, **options)

@@ -1,0 +1,178 @@
+"""The frozen model a trace works on: arrays taken from a Structure when a trace starts.
+
+A :class:`Model` is what the solvers, the path and the plots read. It is immutable
+(its arrays are read-only), so a path keeps describing the structure it was traced
+on, whatever is done to the :class:`~largerot.model.Structure` afterwards. It offers
+the same read-only queries as a Structure (``xy``, ``element_table``,
+``load_vector``...), so drawing code takes either.
+
+Derived data that costs time at scale (the assembly's sparse pattern) is computed
+once per Model and cached on it; an immutable object needs no invalidation. The
+cache is not pickled: an unpickled Model rebuilds it when first asked.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+__all__ = ["Model"]
+
+_TABLES = ("beam", "bar")
+
+
+def _frozen(a, dtype=None) -> np.ndarray:
+    a = np.array(a, dtype=dtype)
+    a.setflags(write=False)
+    return a
+
+
+@dataclass(frozen=True, eq=False)
+class Model:
+    """An immutable, arrays-only snapshot of a structure.
+
+    Attributes
+    ----------
+    xy : ndarray, shape (n_nodes, 2)
+        Undeformed node coordinates.
+    beam_nodes, bar_nodes : ndarray of int, shape (n_beam, 2), (n_bar, 2)
+        End nodes of each element (cable segments are bars).
+    beam_sections, bar_sections : ndarray of int, shape (n_beam,), (n_bar,)
+        Index of each element's section in ``sections``.
+    bar_length : ndarray, shape (n_bar,)
+        Unstretched length of each bar element (a cable's may differ from its chord).
+    bar_cable : ndarray of bool, shape (n_bar,)
+        Tension-only cable segments.
+    sections : tuple
+        ``Section`` and ``FibreSection`` objects (themselves immutable).
+    members : tuple of Member
+    fixed : ndarray of int
+        Restrained global DOFs (3·node + dof), sorted.
+    spring_dofs, spring_k : ndarray, shape (n_springs,)
+        Grounded springs: global DOF and stiffness.
+    F_ref, F_const : ndarray, shape (3·n_nodes,)
+        Dead reference (scaled by λ) and constant nodal loads.
+    followers : tuple of two (nodes, F0) pairs
+        Follower nodal forces, scaled ones first, then constant ones; F0 shape (n, 2).
+    pressures : tuple of two (kinds, elements, values) triples
+        Follower line loads per element, scaled then constant.
+    contact_nodes : ndarray of int, shape (n_contacts,)
+    obstacles : tuple
+        Distinct obstacles, in order of first use.
+    contact_obstacle : ndarray of int, shape (n_contacts,)
+        Index into ``obstacles`` of each contact.
+    """
+
+    xy: np.ndarray
+    beam_nodes: np.ndarray
+    beam_sections: np.ndarray
+    bar_nodes: np.ndarray
+    bar_sections: np.ndarray
+    bar_length: np.ndarray
+    bar_cable: np.ndarray
+    sections: tuple
+    members: tuple
+    fixed: np.ndarray
+    spring_dofs: np.ndarray
+    spring_k: np.ndarray
+    F_ref: np.ndarray
+    F_const: np.ndarray
+    followers: tuple
+    pressures: tuple
+    contact_nodes: np.ndarray
+    obstacles: tuple
+    contact_obstacle: np.ndarray
+    label: str = field(default="")
+
+    def __post_init__(self) -> None:
+        for name, value in vars(self).items():
+            if isinstance(value, np.ndarray):
+                value.setflags(write=False)
+
+    # -- sizes ------------------------------------------------------------------
+    @property
+    def n_nodes(self) -> int:
+        return len(self.xy)
+
+    @property
+    def n_dof(self) -> int:
+        return 3 * len(self.xy)
+
+    @property
+    def length_scale(self) -> float:
+        """Size of the structure (bounding-box diagonal), to weigh rotations against lengths."""
+        if len(self.xy) == 0:
+            return 1.0
+        span = np.ptp(self.xy, axis=0)
+        return float(np.hypot(*span)) or 1.0
+
+    # -- the queries a Structure also answers ----------------------------------------
+    def element_table(self, kind: str) -> tuple[np.ndarray, np.ndarray]:
+        """Node pairs, shape (n_elements, 2), and section ids, shape (n_elements,)."""
+        if kind not in _TABLES:
+            raise ValueError(f"Element table must be one of {', '.join(_TABLES)}, got {kind!r}.")
+        return (self.beam_nodes, self.beam_sections) if kind == "beam" else (self.bar_nodes, self.bar_sections)
+
+    def fixed_dofs(self) -> np.ndarray:
+        """Global indices (3·node + dof) of restrained DOFs, sorted."""
+        return self.fixed
+
+    def load_vector(self, constant: bool = False) -> np.ndarray:
+        """Dead reference (or constant) loads as nodal forces, shape (3·n_nodes,)."""
+        return self.F_const if constant else self.F_ref
+
+    def element_lengths(self, kind: str) -> np.ndarray:
+        """Unstretched length of every element of a kind, shape (n_elements,)."""
+        if kind == "bar":
+            return self.bar_length
+        nodes, _ = self.element_table(kind)
+        return np.hypot(*(self.xy[nodes[:, 1]] - self.xy[nodes[:, 0]]).T) if len(nodes) else np.zeros(0)
+
+    def tension_only(self) -> np.ndarray:
+        """Which bar elements are cable segments, shape (n_bar_elements,), bool."""
+        return self.bar_cable
+
+    def follower_table(self, constant: bool = False) -> tuple[np.ndarray, np.ndarray]:
+        """Nodes with follower forces and the forces at zero rotation, shapes (n,), (n, 2)."""
+        return self.followers[int(bool(constant))]
+
+    def pressure_table(self, constant: bool = False):
+        """Follower line loads per element: kind of each row, element index, (normal, tangential)."""
+        return self.pressures[int(bool(constant))]
+
+    def spring_table(self) -> tuple[np.ndarray, np.ndarray]:
+        """Global DOF indices and stiffnesses of grounded springs."""
+        return self.spring_dofs, self.spring_k
+
+    def contact_table(self) -> list:
+        """(node, obstacle) pairs in the order given."""
+        return [(int(n), self.obstacles[k]) for n, k in zip(self.contact_nodes, self.contact_obstacle)]
+
+    def snapshot(self) -> "Model":
+        """A Model is its own snapshot."""
+        return self
+
+    # -- derived data, cached ---------------------------------------------------------
+    @cached_property
+    def assembly(self):
+        """The assembly (DOF classification, sparse pattern) of this model, built once."""
+        from .assembly import Assembly
+        return Assembly(self)
+
+    def __getstate__(self) -> dict:
+        state = dict(vars(self))
+        state.pop("assembly", None)           # a cache, rebuilt on demand
+        return state
+
+    def __setstate__(self, state: dict) -> None:
+        for k, v in state.items():
+            object.__setattr__(self, k, v)
+        self.__post_init__()
+
+    def __repr__(self) -> str:
+        nb, nc = len(self.beam_nodes), int(self.bar_cable.sum())
+        nr = len(self.bar_nodes) - nc
+        cables = f", {nc} cable" if nc else ""
+        return (f"Model({self.n_nodes} nodes, {len(self.members)} members: "
+                f"{nb} beam and {nr} bar{cables} elements; frozen)")
