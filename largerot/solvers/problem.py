@@ -62,6 +62,11 @@ class Problem:
         p.states, p._last = list(states), None
         return p
 
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state["_last"] = None             # a cache of the last evaluation
+        return state
+
     def residual(self, u: np.ndarray, lam: float, tangent: bool = True):
         """Return ``(r, K, scale)``: residual (n_free,), tangent, and force yardstick.
 
