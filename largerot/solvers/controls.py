@@ -12,7 +12,7 @@ from ..model import DOFS, Structure
 from ..results import EquilibriumPath, Point
 from .arc_length import ArcLengthStepper, check_options
 from .displacement_control import DisplacementStepper
-from .load_control import LoadStepper
+from .load_control import AT_LIMIT, LoadStepper
 from .stepper import PathStepper, checked_option
 
 __all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "run", "iterate", "StepControl"]
@@ -38,17 +38,28 @@ class by_load(StepControl):
         Load-factor increment (negative to unload).
     min_step : float, optional
         Smallest increment tried after cuts (default ``step/1024``).
+    at_limit : {"stop", "jump"}
+        Load control cannot pass a limit point. ``"stop"`` (default) ends the trace
+        there with status ``"limit"`` and the located critical point; ``"jump"``
+        keeps the point found on the far branch and records the jump as a
+        ``"snap"`` event. Never a silent step onto another branch
+        (:mod:`largerot.solvers.load_control`).
     """
 
     step: float
     min_step: float | None = None
+    at_limit: str = "stop"
 
     def __post_init__(self) -> None:
         checked_option("step", self.step, nonzero=True)
         checked_option("min_step", self.min_step, positive=True, allow_none=True)
+        if self.at_limit not in AT_LIMIT:
+            raise ValueError(f"`at_limit` must be one of {', '.join(map(repr, AT_LIMIT))}, "
+                             f"got {self.at_limit!r}.")
 
     def stepper(self, structure, **options) -> LoadStepper:
-        return LoadStepper(structure, self.step, min_step=self.min_step, **options)
+        return LoadStepper(structure, self.step, min_step=self.min_step, at_limit=self.at_limit,
+                           **options)
 
 
 @dataclass(frozen=True)

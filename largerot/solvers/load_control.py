@@ -1,23 +1,178 @@
-"""Load control: the load factor advances by a fixed increment each step."""
+"""Load control: the load factor advances by a fixed increment each step.
+
+Load control cannot pass a limit point: past it there is no equilibrium nearby at a
+higher load. Newton's method then either fails, or converges onto another branch far
+away (the snap-through an engineer must not miss). Both are caught:
+
+* a converged point whose correction is more than ``JUMP_FACTOR`` times the
+  predicted increment, or whose increment is more than ``JUMP_FACTOR`` times the last
+  one, is suspected of a jump (near a limit the tangent predictor itself blows up);
+* a step that fails down to ``min_step`` is suspected of ending at a limit.
+
+Either way a short arc-length search (spherical constraint, ψ = 1) starts from the
+last point toward the load asked for, and if the tangent's inertia changes on the
+way the critical point is located by :func:`~largerot.solvers.critical.locate`. A
+limit point found so ends the trace with status ``"limit"`` (the critical point
+recorded), or, with ``at_limit="jump"``, the far point is kept and the jump recorded
+as a ``"snap"`` event from the limit. A suspected jump with no limit on the way is
+an ordinary point.
+"""
 from __future__ import annotations
 
-from .newton import LoadConstraint
+import logging
+
+import numpy as np
+
+from ..linalg import Factorization, SingularTangent
+from ..results import Event
+from .constraints import Metric, QuadraticConstraint
+from .critical import locate
+from .newton import LoadConstraint, newton
+from .stability import count_negative
+from .status import STATUS
 from .stepper import PathStepper
 
-__all__ = ["LoadStepper"]
+__all__ = ["LoadStepper", "AT_LIMIT"]
+
+log = logging.getLogger(__name__)
+
+#: What load control does at a limit point: stop there, or keep the far point.
+AT_LIMIT = ("stop", "jump")
+#: A correction this many times larger than the predicted increment, or an increment
+#: this many times the last one, is a suspected jump. A continuous path with equal
+#: load steps changes its increment gradually (the built-in arch: at most 2.5× per
+#: step up to its limit); the snap onto the far branch is 12× the last increment.
+#: A false suspicion costs only the limit search.
+JUMP_FACTOR = 5.0
+#: Arc-length steps of the search for a limit point (each a short Newton solve).
+LIMIT_SEARCH_STEPS = 40
+#: Its first arc length as a share of the step asked for (in the metric).
+LIMIT_SEARCH_SHARE = 0.25
+
+
+class _LimitReached(Exception):
+    def __init__(self, cp) -> None:
+        self.cp = cp
 
 
 class LoadStepper(PathStepper):
-    """Increment λ by ``h`` per step; stops being useful at a limit point in load."""
+    """Increment λ by ``h`` per step; at a limit point stop (``at_limit="stop"``) or jump."""
 
-    def __init__(self, structure, step: float, **options) -> None:
-        if not step:
-            raise ValueError(f"The load step must be non-zero, got {step!r}.")
+    def __init__(self, structure, step: float, *, at_limit: str = "stop", **options) -> None:
+        if at_limit not in AT_LIMIT:
+            raise ValueError(f"`at_limit` must be one of {', '.join(map(repr, AT_LIMIT))}, got {at_limit!r}.")
+        self.at_limit = at_limit
+        self._predicted = None
+        self._snap = None
         super().__init__(structure, step, **options)
+        if self.target is not None and (self.target - self.lam) * self.h < 0.0:
+            raise ValueError(f"`target_load_factor` {self.target!r} lies behind the first load step "
+                             f"({self.h!r} from λ = {self.lam!r}); give the step the sign of the way to the target.")
 
     def _predict(self, h: float):
         dlam = h
         if self.target is not None and (self.lam + h - self.target) * (self.lam - self.target) <= 0:
             dlam = self.target - self.lam          # shorten the last step to land on the target
         lam = self.lam + dlam
-        return self.u + dlam * self.tangent_direction(), lam, LoadConstraint(lam)
+        du = dlam * self.tangent_direction()
+        self._predicted = du
+        return self.u + du, lam, LoadConstraint(lam)
+
+    # -- limit points ---------------------------------------------------------------
+    def step(self) -> str:
+        try:
+            return super().step()
+        except _LimitReached as stop:
+            return self._stop_at(stop.cp)
+
+    def _stop_at(self, cp) -> str:
+        last = self._points[-1]
+        last.critical = (*last.critical, cp)
+        self.status = "limit"
+        self.message = f"{STATUS['limit'].message} (limit point at λ = {cp.load_factor:.9g})"
+        log.info("load control stops at a limit point, λ = %.9g", cp.load_factor)
+        return self.message
+
+    def _attempt(self, h: float):
+        res = super()._attempt(h)
+        if res is None or not res.converged or self._predicted is None:
+            return res
+        p = self.problem
+        prev = self._previous_increment()
+        far = p.norm(res.u - self.u - self._predicted) > JUMP_FACTOR * p.norm(self._predicted)
+        if prev is not None:
+            # near a limit the tangent predictor itself blows up: compare with the last step
+            far = far or p.norm(res.u - self.u) > JUMP_FACTOR * p.norm(prev[0])
+        if not far:
+            return res
+        cp = self._find_limit(res.lam)
+        if cp is None:
+            return res
+        if self.at_limit == "stop":
+            raise _LimitReached(cp)
+        self._snap = cp
+        return res
+
+    def _accept(self, res) -> None:
+        super()._accept(res)
+        if self._snap is not None:
+            cp, self._snap = self._snap, None
+            i = self.n_points - 2
+            rec = self._points[-1]
+            rec.critical = (*rec.critical, cp)
+            rec.events = (*rec.events, Event("snap", i, cp.load_factor,
+                                             f"from the limit point at λ = {cp.load_factor:.6g} "
+                                             f"to point {i + 1} (λ = {rec.lam:.6g})"))
+
+    def _fail(self, why: str) -> str:
+        cp = self._find_limit(self.lam + np.sign(self.h) * self.h_nominal)
+        if cp is not None:
+            return self._stop_at(cp)
+        return super()._fail(why)
+
+    def _find_limit(self, lam_end: float):
+        """A limit point between the last point and λ = ``lam_end``, located, or None.
+
+        Short arc-length continuation from the last point (spherical constraint,
+        ψ = 1) until the inertia of the tangent changes (then located), λ passes
+        ``lam_end`` or the search runs out of steps.
+        """
+        a = self._points[-1]
+        prob = self.problem.with_states(a.history)
+        metric = Metric(prob.weights**2, self.lam_scale**2)
+        sign = 1.0 if lam_end >= a.lam else -1.0
+        u, lam, n_now, prev = a.u, a.lam, a.n_negative, None
+        dl = None
+        for _ in range(LIMIT_SEARCH_STEPS):
+            _, K, _ = prob.residual(u, lam)
+            try:
+                v = Factorization(K, symmetric=prob.symmetric).solve(prob.F)
+            except SingularTangent:
+                return None
+            norm = metric.norm(v, 1.0)
+            if not np.isfinite(norm) or norm == 0.0:
+                return None
+            if dl is None:
+                dl = LIMIT_SEARCH_SHARE * abs(lam_end - a.lam) * norm
+            sense = sign if prev is None else (1.0 if metric.dot(prev[0], prev[1], v, 1.0) >= 0 else -1.0)
+            dlam = sense * dl / norm
+            res = newton(prob, u + dlam * v, lam + dlam, QuadraticConstraint(metric, u, lam, dl), u,
+                         self.tol, self.tol_u, self.max_iterations)
+            self.n_factorizations += res.iterations + 1
+            if not res.converged:
+                dl /= 2.0
+                continue
+            n = count_negative(res.factorization)
+            if n != n_now:
+                info = locate(prob, self.lam_scale, u, lam, res.u, res.lam, n_now, n,
+                              self.tol, self.tol_u, self.max_iterations)
+                self.n_factorizations += info["n_factorizations"]
+                if info["kind"] != "limit":
+                    return None
+                return self._critical_from(info, self.n_points - 1)
+            if (res.lam - lam_end) * sign > 0.0:
+                return None                       # past the load asked for: no limit on the way
+            prev = (res.u - u, res.lam - lam)
+            u, lam = res.u, res.lam
+            dl *= 1.5
+        return None

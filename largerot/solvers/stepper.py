@@ -423,12 +423,16 @@ class PathStepper:
         info = locate(self.problem.with_states(a.history), self.lam_scale, a.u, a.lam, b.u, b.lam,
                       a.n_negative, b.n_negative, self.tol, self.tol_u, self.max_iterations)
         self.n_factorizations += info["n_factorizations"]
-        free = self.assembly.free
-        cp = CriticalPoint(info["kind"], info["lam"], i, self.assembly.expand(info["u"]),
-                           self.assembly.expand(_normalised_mode(info["mode"], free)),
-                           located=info["located"], load_cosine=info["load_cosine"])
+        cp = self._critical_from(info, i)
         log.info("%s point at λ = %.9g after point %d", cp.kind, cp.load_factor, i)
         return cp, info
+
+    def _critical_from(self, info: dict, i: int) -> CriticalPoint:
+        """A CriticalPoint after point ``i`` from what ``critical.locate`` found."""
+        free = self.assembly.free
+        return CriticalPoint(info["kind"], info["lam"], i, self.assembly.expand(info["u"]),
+                             self.assembly.expand(_normalised_mode(info["mode"], free)),
+                             located=info["located"], load_cosine=info["load_cosine"])
 
     def _locate_events(self, a: PointRecord, b: PointRecord):
         i = len(self._points) - 1
