@@ -63,14 +63,14 @@ def test_stop_condition_ends_trace_on_the_point_that_met_it():
     assert [p.index for p in seen] == list(range(1, len(path)))
 
 
-def test_failure_at_limit_point_keeps_traced_points_without_nan():
+def test_load_control_stops_at_a_located_limit_point():
     # Load control cannot pass the limit point of a shallow two-bar truss. With a
-    # tight iteration budget (no jump to the far, inverted branch is accepted) the
-    # step halves down to its floor at the limit and the trace ends "failed", keeping
-    # every point before it; nothing non-finite appears in the result.
+    # tight iteration budget the step halves down to its floor at the limit; the trace
+    # then ends with status "limit" and the critical point located on the exact
+    # statics (Newton-level accuracy, 1e-8), keeping every point before it.
     from largerot.closed_form import two_bar_truss_load
-    v = np.linspace(0.0, 0.5, 20001)
-    P_limit = two_bar_truss_load(v, 2.0, 0.5, 1e4).max()     # exact statics
+    v = np.linspace(0.0, 0.5, 200001)
+    P_limit = two_bar_truss_load(v, 2.0, 0.5, 1e4).max()     # exact statics, grid 2.5e-6
     s = lr.Structure()
     l, c, r = s.node(-2.0, 0.0), s.node(0.0, 0.5), s.node(2.0, 0.0)
     sec = lr.Section(E=1e4, A=1.0)
@@ -80,14 +80,35 @@ def test_failure_at_limit_point_keeps_traced_points_without_nan():
     s.fix(r, "ux", "uy")
     s.load(c, fy=-1.0)
     path = lr.trace(s, lr.by_load(P_limit / 10), target_load_factor=3 * P_limit, max_iterations=4)
-    assert path.status == "failed" and not path.success
-    assert "did not converge" in path.message
-    assert path.counters["step_cuts"] >= 10
+    assert path.status == "limit" and path.success and "limit point" in path.message
+    cps = path.critical_points
+    assert len(cps) == 1 and cps[0].kind == "limit" and cps[0].located
+    assert cps[0].load_factor == pytest.approx(P_limit, rel=1e-8)
     assert np.all(np.isfinite(path.u)) and np.all(np.isfinite(path.load_factor))
-    assert 0.999 * P_limit < path.load_factor[-1] <= P_limit
+    assert path.load_factor[-1] <= P_limit
     # every kept point is on the exact curve
     P = two_bar_truss_load(-path.displacement(c, "uy"), 2.0, 0.5, 1e4)
     assert np.allclose(path.load_factor, P, rtol=1e-7, atol=1e-9 * P_limit)
+
+
+def test_load_control_on_the_shallow_arch_never_hides_the_snap():
+    # The built-in arch under load control in steps of 10: the step from 230 to 240
+    # would land on the inverted branch. It stops at the limit point instead, at the
+    # load factor arc length finds (the same located point, 1e-7); asked to carry on
+    # it keeps the far point and records the snap from the limit.
+    from largerot.examples import shallow_arch
+    sc = shallow_arch()
+    ref = lr.trace(sc.structure, lr.by_arc_length(), **sc.trace_options).critical_points[0]
+    path = lr.trace(sc.structure, lr.by_load(10.0))
+    assert path.status == "limit" and path.critical_points[0].load_factor == pytest.approx(
+        ref.load_factor, rel=1e-7)
+    crown = path.displacement(sc.curve[0], "uy")
+    assert crown.min() > -0.2                              # still on the near branch
+    jump = lr.trace(sc.structure, lr.by_load(10.0, at_limit="jump"), target_load_factor=260.0)
+    snaps = [e for e in jump.events if e.kind == "snap"]
+    assert jump.status == "target" and len(snaps) == 1
+    assert snaps[0].load_factor == pytest.approx(ref.load_factor, rel=1e-7)
+    assert jump.displacement(sc.curve[0], "uy")[-1] < -0.3  # landed on the inverted branch
 
 
 def test_stepper_object_status_transitions():
