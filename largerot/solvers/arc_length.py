@@ -17,6 +17,10 @@ vol. 1, §9.4.2 in spirit). Unlike the sign of det K it stays right through limi
 points, snap-back and bifurcations. The first step goes toward increasing λ, or
 decreasing λ for a negative ``step``.
 
+A structure that hangs slack at rest (a sagging cable loaded only by scaled loads)
+has no tangent there: its first point is found by relaxation at λ = (target or
+1)/``AUTO_STEPS`` (``PathStepper.relax_to``) and the trace goes on from it.
+
 First step (``step=None``): from the linear response u1 = K⁻¹F at the start, λ_c is
 the smaller of the load factor at which |u1|·λ reaches ``GEOMETRIC_SHARE`` of the
 structure's size, the lowest linear buckling factor, and the load factors at which
@@ -139,6 +143,11 @@ class ArcLengthStepper(PathStepper):
         p = self.problem
         if not p.F.any():
             raise ModelError("Arc-length control needs a reference load to scale; the structure has none.")
+        if self.slack_start:
+            # slack cables at rest: the first point by relaxation, a share of the way
+            # to the target (or to λ = 1); the path goes on from there
+            sign = -1.0 if step is not None and step < 0 else 1.0
+            self.relax_to(sign * abs(self.target if self.target else 1.0) / AUTO_STEPS)
         self.constraint, self.psi = constraint, float(psi)
         self.desired_iterations = int(desired_iterations)
         self.follow, self.branch_sign = follow, int(branch_sign)

@@ -25,6 +25,10 @@ class DisplacementStepper(PathStepper):
             raise ModelError(f"by_displacement: unknown node {node!r} (the structure has {n} nodes).")
         g = 3 * int(node) + dof_index(dof)
         super().__init__(structure, step, **options)
+        if self.slack_start:
+            raise ModelError("by_displacement cannot start from a slack structure (a sagging cable "
+                             "with no load to stretch it): take the first step with lr.by_load, or "
+                             "hold part of the load constant.")
         self.node, self.dof = int(node), dof
         j = int(self.assembly.free_index[g])
         if j < 0:

@@ -107,12 +107,14 @@ def crossings(group_events, users, rec_a: dict, rec_b: dict, point_a, point_b) -
     return out
 
 
-def locate_crossings(found: list, bracket: Bracket, record_at, point_at) -> list:
+def locate_crossings(found: list, bracket: Bracket | None, record_at, point_at,
+                     lam_a: float, lam_b: float) -> list:
     """Load factor (and σ) of each crossing, by root finding along ``bracket``.
 
     ``record_at(res)`` gives the record of a converged NewtonResult and
-    ``point_at(res)`` the Point; both are cached by σ here. Returns a list of
-    ``(crossing, sigma, lam, located)``.
+    ``point_at(res)`` the Point; both are cached by σ here. Without a bracket (no
+    path to follow between the points, e.g. from a slack start) the values are
+    interpolated. Returns a list of ``(crossing, sigma, lam, located)``.
     """
     records: dict[float, tuple] = {}
 
@@ -129,17 +131,17 @@ def locate_crossings(found: list, bracket: Bracket, record_at, point_at) -> list
         return c.event.values(pt)
 
     out, per_kind = [], {}
+    dlam = lam_b - lam_a
     for c in found:
-        lam_a, dlam = bracket.lam_a, bracket.t_lam
         n = per_kind[c.event] = per_kind.get(c.event, 0) + 1
         t = c.f_a / (c.f_a - c.f_b)                       # linear interpolation fallback
         sigma, located = t, False
-        if n <= MAX_LOCATED:
+        if bracket is not None and n <= MAX_LOCATED:
             try:
                 sigma = bracket.root(lambda s, c=c: value(c, s), c.f_a, c.f_b, EVENT_SIGMA_TOL)
                 located = True
             except (NoPoint, ValueError, RuntimeError) as exc:
-                log.warning("event %r between λ = %.6g and %.6g not located: %s", c.event.kind,
+                log.info("event %r between λ = %.6g and %.6g not located: %s", c.event.kind,
                             lam_a, lam_a + dlam, exc)
         if located and 0.0 < sigma < 1.0:
             lam = bracket.solve(sigma).lam

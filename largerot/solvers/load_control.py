@@ -80,6 +80,12 @@ class LoadStepper(PathStepper):
 
     # -- limit points ---------------------------------------------------------------
     def step(self) -> str:
+        if self.slack_start:                   # slack cables: the first point by relaxation
+            lam = self.target if self.target is not None and abs(self.target) < abs(self.h) else self.h
+            self.relax_to(lam)
+            if self.target is not None and self.lam == self.target:
+                self.finish("target")
+            return f"Point 1: λ = {self.lam:.6g}, found by relaxation from the slack start."
         try:
             return super().step()
         except _LimitReached as stop:

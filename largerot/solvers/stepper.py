@@ -30,7 +30,7 @@ from ..snapshot import Model
 from .critical import Bracket, locate
 from .equilibrium import settle
 from .events import crossings, locate_crossings, user_events
-from .newton import LoadConstraint, NewtonResult, newton
+from .newton import FLOOR_FACTOR, LoadConstraint, NewtonResult, newton, roundoff_level
 from .problem import Problem
 from .stability import count_negative
 from .status import STATUS
@@ -193,9 +193,7 @@ class PathStepper:
         u = np.zeros(p.n)
         history = self.assembly.initial_states()
         r, K, scale = p.residual(u, 0.0)
-        # measured against the reference load too: at rest the internal forces of a
-        # stiff curved member are pure round-off, and so would be the yardstick
-        if np.linalg.norm(r) > self.tol * max(scale, float(np.linalg.norm(p.F))):
+        if np.linalg.norm(r) > self._rest_tolerance(K, scale):
             # constant loads, pretension or a cable's own length: out of balance at rest
             try:       # contact penalties from the structure at rest
                 history = self.assembly.calibrated(history, p.evaluation(u, 0.0),
@@ -205,12 +203,20 @@ class PathStepper:
                 pass
             u = self._settle_constant_loads(u)
             r, K, _ = p.residual(u, 0.0)
+        ev = p.evaluation(u, 0.0)
         try:
             fact = factorize(K, symmetric=p.symmetric)
         except SingularTangent as exc:
-            raise self._mechanism_error(K, exc) from None
+            if not np.any(self.assembly.record(ev).get("slack", False)):
+                raise self._mechanism_error(K, exc) from None
+            # a sagging cable hangs slack until the scaled loads (its own weight
+            # growing with λ, a hung load) stretch it: no tangent to predict with, so
+            # the first point is found by relaxation (see relax_to)
+            self.slack_start = True
+            self._points.append(PointRecord(0.0, u, 0, np.array([]), 0, 0.0, self.assembly.record(ev),
+                                            history=ev.states()))
+            return
         self.n_factorizations += 1
-        ev = p.evaluation(u, 0.0)
         history = self.assembly.calibrated(ev.states(), ev, fact)
         if p.F.any():
             # displacement per unit λ of the linear response: weighs λ against u in
@@ -220,6 +226,47 @@ class PathStepper:
         rec = PointRecord(0.0, u, 0, np.array([]), count_negative(fact), 0.0, self.assembly.record(ev),
                           history=history)
         self._points.append(rec)
+
+    slack_start = False
+
+    def relax_to(self, lam: float) -> None:
+        """Find the first point at load factor ``lam`` by relaxation (slack start only).
+
+        The tangent at rest of a slack cable is singular, so Newton's method has no
+        first step; pseudo-transient relaxation (:func:`~largerot.solvers.equilibrium.settle`)
+        finds the hanging equilibrium at ``lam`` as it does under constant loads.
+        """
+        p = self.problem
+        p.states = list(self.history)
+        res = settle(p, self.u, lam, self.tol, self.tol_u, self.max_iterations)
+        if not res.converged:
+            raise ModelError(f"The slack structure finds no equilibrium at λ = {lam:.6g}: {res.message}")
+        self.n_factorizations += res.iterations + 1
+        self.slack_start = False
+        self.lam_scale = p.norm(res.factorization.solve(p.F)) or 1.0
+        rec, a = self._new_point(res), self._points[-1]
+        # no path to follow from the slack state: events between are interpolated
+        rec.events = tuple(self._locate_events(a, rec, search=False)[0])
+        self._fact = res.factorization
+        self._points.append(rec)
+        a.history = None
+        self.n_steps += 1
+
+    def _rest_tolerance(self, K, scale: float) -> float:
+        """Largest residual at rest that is not an imbalance.
+
+        The relative test against the forces and the reference load, or the round-off
+        level of forces computed from node coordinates, eps·‖|K|·|X|‖ (X: each DOF's
+        coordinate magnitude plus the structure's size, 1 for rotations), whichever is
+        larger: a 1 N reference load on a steel arch must not read round-off as a load.
+        """
+        p, asm = self.problem, self.assembly
+        free = asm.free
+        xy = np.abs(asm.xy).ravel()
+        node_size = np.where(free % 3 == 2, 1.0,
+                             xy[2 * (free // 3) + np.minimum(free % 3, 1)] + p.length_scale)
+        return max(self.tol * max(scale, float(np.linalg.norm(p.F))),
+                   FLOOR_FACTOR * roundoff_level(K, node_size))
 
     def _settle_constant_loads(self, u: np.ndarray) -> np.ndarray:
         """Equilibrium under the constant loads alone at λ = 0 (ramped in if needed)."""
@@ -259,6 +306,8 @@ class PathStepper:
         if self.status != "running":
             raise RuntimeError(f"Attempt to step on a trace that has ended ({self.status}: "
                                f"{self.message}); call resume() to go on.")
+        if self.slack_start:
+            raise RuntimeError("The structure hangs slack at rest: call relax_to(λ) for its first point.")
         for _ in range(MAX_CUTS + 1):
             self.problem.states = list(self.history)        # working copy of the history
             res = self._attempt(self.h)
@@ -434,17 +483,19 @@ class PathStepper:
                              self.assembly.expand(_normalised_mode(info["mode"], free)),
                              located=info["located"], load_cosine=info["load_cosine"])
 
-    def _locate_events(self, a: PointRecord, b: PointRecord):
+    def _locate_events(self, a: PointRecord, b: PointRecord, search: bool = True):
         i = len(self._points) - 1
         pa, pb = self._point_of(i, a), self._point_of(i + 1, b)
         found = crossings(self.assembly.events, self.user_events, a.record, b.record, pa, pb)
         if not found:
             return [], None
         prob = self.problem.with_states(a.history)
-        br = Bracket(prob, self.lam_scale, a.u, a.lam, b.u, b.lam, self.tol, self.max_iterations)
+        br = Bracket(prob, self.lam_scale, a.u, a.lam, b.u, b.lam, self.tol, self.max_iterations) \
+            if search else None
         located = locate_crossings(found, br, lambda r: prob.record(r.u, r.lam),
-                                   lambda r: Point(self.model, i, r.lam, self.assembly.expand(r.u)))
-        self.n_factorizations += br.n_factorizations
+                                   lambda r: Point(self.model, i, r.lam, self.assembly.expand(r.u)),
+                                   a.lam, b.lam)
+        self.n_factorizations += br.n_factorizations if br is not None else 0
         events, terminal = [], None
         for c, sigma, lam, ok in located:
             detail = c.detail if ok else (c.detail + " (interpolated)").strip()
