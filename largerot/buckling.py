@@ -1,17 +1,57 @@
-"""Linear buckling: the eigenproblem (K0 + λ·Kσ)·φ = 0 and imperfections from its modes.
+"""Linear buckling about the state under the constant loads, and imperfections from its modes.
 
-K0 is the tangent of the unloaded structure and Kσ the geometric (stress) stiffness
-of the linear state under the reference load, u1 = K0⁻¹F. The element forces of
-that state (N, M1, M2) are taken from the element kernels by a central difference
-about u = 0, exact to O(ε²) as their quadratic part cancels, and Kσ is the
-stress-dependent part of the corotational tangent at the undeformed geometry
-(common practice, no source; e.g. Timoshenko & Gere 1961, *Theory of Elastic
-Stability*, for the problem, and the element files for the tangent). Constant
-loads are not part of the pre-buckling state here.
+The eigenproblem
+    (K0 + Kσ(u_c) + λ·Kσ(u_1))·φ = 0,   u_c = K0⁻¹·(F_const − f_int(0)),   u_1 = K0⁻¹·F_ref,
+gives the factors λ of the reference load F_ref at which the structure, already
+carrying its constant loads F_const in full, loses stability. K0 is the tangent of
+the unloaded structure; Kσ(u) the geometric (stress) stiffness of the element forces
+of the linear state u. Without constant loads it is the classical (K0 + λ·Kσ)·φ = 0
+(Timoshenko & Gere 1961, *Theory of Elastic Stability*, for the problem).
 
-Solved as −Kσ·φ = μ·K0·φ with μ = 1/λ, since K0 is positive definite: dense LAPACK
-for small models, ARPACK (``scipy.sparse.linalg.eigsh``) for large ones. Only
-positive λ (the reference load's own sense) are returned.
+Pre-buckling state under the constant loads: linear, by choice
+    The constant loads (self-weight from ``gravity(constant=True)``, constant nodal
+    and line loads, and the out-of-balance force −f_int(0) of a cable's pretension
+    or shortened length, whose own rest forces already stiffen K0) enter through
+    their *linear* state u_c, not through the nonlinear equilibrium that a trace
+    settles into at λ = 0 (``solvers/equilibrium.settle``). Reasons: (i) Kσ is linear in the element
+    forces, so Kσ(u_c) + λ·Kσ(u_1) = Kσ(u_c + λ·u_1) and the answer is exactly the
+    classical linear buckling of the combined load F_const + λ·F_ref, with no
+    iteration that could fail or depend on a tolerance; (ii) for the structures a
+    linear buckling analysis is meant for (columns, frames, arches before they sag
+    visibly), the pre-buckling rotations are small and the element forces of the
+    linear state are those of the nonlinear one to first order; (iii) where they are
+    not (a slack cable, a deep sag), K0 at the undeformed geometry is itself wrong
+    and only a path (``lr.trace``) answers the question. The element forces of
+    cable segments are taken from the tension-only kernel, so a cable that starts
+    slack carries none.
+
+Element forces and geometric stiffness
+    The element forces of a linear state (N, M1, M2 for beams, N for bars) are taken
+    from the element kernels by a central difference about u = 0, exact to O(ε²)
+    as their quadratic part cancels. Fibre-section beams are taken with their
+    elastic section stiffness (``FibreSection.EA``, ``.EI``, the sums over the
+    fibres), through the elastic beam kernel: linear buckling is about the virgin,
+    elastic structure, and their K0 at rest is that of the same elastic beam. Kσ
+    is then a pure function of those forces and the undeformed geometry per
+    element group (``stress_stiffness``, :mod:`largerot.groups`):
+    for beams the consistent (cubic) axial term plus the chord's moment term of the
+    corotational tangent, for bars N/L·z⊗z (common practice, no source; the element
+    files for the tangent). Contacts add nothing to Kσ: at rest their multipliers are
+    zero, and a linear analysis cannot open or close them, so they keep what their
+    kernel gives K0 at rest.
+
+Follower loads
+    Their value at rest is part of F_const or F_ref, and their load stiffness at rest
+    −∂F/∂u joins K0 (constant ones) or λ·Kσ (reference ones). The problem is then
+    non-symmetric; only real critical factors (divergence) are returned, flutter is
+    not sought.
+
+Solved as −B·φ = μ·A·φ with μ = 1/λ, A = K0 + Kσ(u_c) and B = Kσ(u_1): dense LAPACK
+for small models, ARPACK (``scipy.sparse.linalg.eigsh``/``eigs``) for large ones.
+A must be positive definite (checked by its inertia): if the constant loads alone
+make it singular or indefinite they are at or beyond the buckling load (λ_cr ≤ 0)
+and :class:`~largerot.errors.ModelError` says so. Only positive λ (the reference
+load's own sense) are returned.
 """
 from __future__ import annotations
 
@@ -23,6 +63,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from .errors import ModelError
+from .linalg import SingularTangent, factorize
 from .model import Structure
 
 __all__ = ["buckling", "Buckling", "imperfect"]
@@ -68,7 +109,26 @@ def _unit_mode(phi_full: np.ndarray) -> np.ndarray:
 
 
 def buckling(structure: Structure, modes: int = 3) -> Buckling:
-    """Linear buckling load factors and modes under the structure's reference load.
+    """Critical factors of the reference load, and modes, with the constant loads in place.
+
+    Solves (K0 + Kσ(u_c) + λ·Kσ(u_1))·φ = 0 (see the module notes):
+
+    * **Constant loads** (``constant=True`` nodal and line loads, self-weight from
+      ``gravity()`` with its default ``constant=True``, and the out-of-balance force
+      of pretensioned cables) are applied in full, and only the reference load is
+      scaled: λ answers "how many times the reference load can the structure take on
+      top of the constant loads". Their pre-buckling state is the *linear* one,
+      u_c = K0⁻¹·(F_const − f_int(0)), whose element forces give Kσ(u_c). If the
+      constant loads alone are at or beyond buckling (K0 + Kσ(u_c) not positive
+      definite, λ_cr ≤ 0), a ModelError says so.
+    * **Reference loads** (including ``gravity(constant=False)``): linear state
+      u_1 = K0⁻¹·F_ref, Kσ(u_1) scaled by λ.
+    * **Follower loads** (``follower=True``, pressures): taken at their value at rest,
+      and their load stiffness at rest −∂F/∂u joins K0 (constant ones) or λ·Kσ
+      (reference ones). The eigenproblem is then non-symmetric and only real factors
+      (divergence) are returned.
+    * Fibre-section beams count with their elastic section stiffness (EA, EI),
+      whatever an earlier trace left in their history; contacts as at rest.
 
     Parameters
     ----------
@@ -81,6 +141,13 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     -------
     Buckling
 
+    Raises
+    ------
+    ModelError
+        Without a reference load; when the unloaded structure is a mechanism; when the
+        constant loads alone reach the buckling load; for an element kind without a
+        geometric stiffness.
+
     Examples
     --------
     >>> import math, largerot as lr
@@ -91,36 +158,77 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     >>> res = lr.buckling(s, modes=1)
     >>> print(round(float(res.load_factors[0]) / (math.pi**2 / 4), 4))    # π²EI/(4L²)
     1.0
+    >>> s.load(b, fy=-0.25 * math.pi**2 / 4, constant=True)    # a quarter of it held
+    >>> print(round(float(lr.buckling(s, modes=1).load_factors[0]) / (math.pi**2 / 4), 4))
+    0.75
     """
     if isinstance(modes, bool) or not isinstance(modes, (int, np.integer)) or modes < 1:
         raise ValueError(f"`modes` must be a positive integer, got {modes!r}.")
     if not hasattr(structure, "snapshot"):
         raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
-    model = structure.snapshot()
-    asm = model.assembly
-    F = asm.external(np.zeros(asm.n_dof))[0][asm.free]      # follower loads as at rest
+    asm = structure.snapshot().assembly        # stateless: the virgin structure, always
+    rest = np.zeros(asm.n_dof)
+    F_ref, F_const = asm.external(rest)                      # follower loads as at rest
+    F = F_ref[asm.free]
     if not F.any():
         raise ModelError("Linear buckling needs a reference load; the structure has none.")
-    n = asm.n_free
-    K0 = asm.evaluate(np.zeros(asm.n_dof), asm.initial_states(), True).K
+    ev = asm.evaluate(rest, asm.initial_states(), True)
+    f0, K0 = ev.f, ev.K
+    F_c = (F_const - f0)[asm.free]            # constant loads and the pretension at rest
     try:
         lu = spla.splu(K0.tocsc())
-        u1 = lu.solve(F)
+        u1, uc = lu.solve(F), lu.solve(F_c)
     except RuntimeError:
         raise ModelError("The unloaded structure is a mechanism: its stiffness is singular.") from None
-    Ks = asm.stress_stiffness(asm.expand(u1))
-    if asm.has_followers:
-        # follower loads: their load stiffness −∂F/∂u per unit λ joins Kσ
-        Ks = (Ks + asm.load_stiffness(np.zeros(asm.n_dof), 1.0, 0.0)).tocsc()
-        return _nonsymmetric(structure, asm, K0, Ks, modes)
+    A = (K0 + asm.stress_stiffness(asm.expand(uc))).tocsc()
+    B = asm.stress_stiffness(asm.expand(u1))
+    symmetric = not asm.has_followers
+    if not symmetric:
+        # follower loads: their load stiffness −∂F/∂u at rest joins A (constant ones)
+        # and B (per unit λ, reference ones)
+        A = (A + asm.load_stiffness(rest, 0.0, 1.0)).tocsc()
+        B = (B + asm.load_stiffness(rest, 1.0, 0.0)).tocsc()
+    if F_c.any():
+        _check_constant_loads(K0, A, symmetric)
+    if symmetric:
+        return _symmetric(structure, asm, A, B, modes)
+    return _nonsymmetric(structure, asm, A, B, modes)
+
+
+def _check_constant_loads(K0, A, symmetric: bool) -> None:
+    """Raise if the constant loads alone buckle the structure (A singular or not stable).
+
+    Symmetric A: its inertia (negative pivots of one LDLᵀ). Non-symmetric A (constant
+    follower loads): A = K0 + γ·(A − K0) must not turn singular for a real γ in (0, 1].
+    """
+    msg = ("The constant loads alone are {} the structure's buckling load (λ_cr ≤ 0 for "
+           "the reference load): the stiffness under them, K0 + Kσ, {}. Reduce the "
+           "constant loads, or trace the path (lr.trace) to see what they do.")
+    if symmetric:
+        try:
+            fact = factorize(A, symmetric=True)
+        except SingularTangent:
+            raise ModelError(msg.format("at", "is singular")) from None
+        if fact.n_negative > 0:
+            raise ModelError(msg.format("beyond", "is not positive definite"))
+        return
+    gamma = _nonsymmetric_factors(K0, (A - K0).tocsc(), 1)[0]
+    if len(gamma) and gamma[0] <= 1.0:
+        raise ModelError(msg.format(
+            "at or beyond", f"turns singular at {gamma[0]:.4g} times them"))
+
+
+def _symmetric(structure, asm, A, B, modes: int) -> Buckling:
+    """Positive critical load factors of a symmetric (A + λ·B)·φ = 0, A positive definite."""
+    n = asm.n_free
     if n <= DENSE_MAX:
         try:
-            mu, v = sla.eigh(-Ks.toarray(), K0.toarray())
+            mu, v = sla.eigh(-B.toarray(), A.toarray())
         except np.linalg.LinAlgError:
             raise ModelError("The unloaded structure's stiffness is not positive definite.") from None
     else:
         k = min(modes + 2, n - 1)
-        mu, v = spla.eigsh(-Ks, k=k, M=K0.tocsc(), which="LA")
+        mu, v = spla.eigsh(-B, k=k, M=A, which="LA")
     tiny = 1e-12 * max(float(np.abs(mu).max()), 1e-300)
     keep = np.flatnonzero(mu > tiny)
     keep = keep[np.argsort(-mu[keep])][:modes]
@@ -129,20 +237,25 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     return Buckling(structure, lams, shapes)
 
 
-def _nonsymmetric(structure, asm, K0, Ks, modes: int) -> Buckling:
-    """Real positive critical load factors of a non-symmetric (K0 + λ·Ks)·φ = 0."""
-    n = asm.n_free
+def _nonsymmetric_factors(A, B, modes: int):
+    """Real positive λ of a non-symmetric (A + λ·B)·φ = 0, ascending, and their vectors."""
+    n = A.shape[0]
     if n <= DENSE_MAX:
-        mu, v = sla.eig(-Ks.toarray(), K0.toarray())
+        mu, v = sla.eig(-B.toarray(), A.toarray())
     else:
-        mu, v = spla.eigs(-Ks, k=min(modes + 4, n - 2), M=K0.tocsc(), which="LR")
+        mu, v = spla.eigs(-B, k=min(modes + 4, n - 2), M=A, which="LR")
     real = np.abs(mu.imag) <= 1e-8 * np.maximum(np.abs(mu.real), 1e-300)
     tiny = 1e-12 * max(float(np.abs(mu).max()), 1e-300)
     keep = np.flatnonzero(real & (mu.real > tiny))
     keep = keep[np.argsort(-mu.real[keep])][:modes]
-    lams = 1.0 / mu.real[keep]
-    shapes = np.array([_unit_mode(asm.expand(np.real(v[:, k]))) for k in keep]).reshape(len(keep), asm.n_dof)
-    return Buckling(structure, lams, shapes)
+    return 1.0 / mu.real[keep], np.real(v[:, keep])
+
+
+def _nonsymmetric(structure, asm, A, B, modes: int) -> Buckling:
+    """Real positive critical load factors of a non-symmetric (A + λ·B)·φ = 0."""
+    lams, v = _nonsymmetric_factors(A, B, modes)
+    shapes = np.array([_unit_mode(asm.expand(v[:, k])) for k in range(len(lams))])
+    return Buckling(structure, lams, shapes.reshape(len(lams), asm.n_dof))
 
 
 def imperfect(structure: Structure, mode: np.ndarray, amplitude: float) -> Structure:

@@ -357,3 +357,66 @@ def cantilever_on_stop(P: float, gap: float, L: float, EI: float, n_nodes: int =
         guess = sol.sol(s)
     th, M, x, y = sol.sol(L)
     return {"R": float(sol.p[0]), "ux": float(x - L), "slope": float(th), "R_small": R0}
+
+
+def greenhill_weight(L: float, EI: float) -> float:
+    """Weight per unit length q at which a clamped vertical column buckles under it alone.
+
+    Greenhill's heavy column (Timoshenko & Gere 1961, *Theory of Elastic Stability*,
+    §2.10): with x = L − s measured down from the free top, EI·θ'' + q·x·θ = 0 is
+    solved by θ = √x·J₋₁/₃(z), z = (2/3)·√(q/EI)·x^(3/2), the branch with θ' = 0 at the
+    top; θ = 0 at the clamp (z = j, the first zero of J₋₁/₃) gives
+    q·L³/EI = 9·j²/4 ≈ 7.837. j is found with scipy.special.jv and brentq.
+    """
+    from scipy.special import jv
+
+    j = brentq(lambda z: jv(-1.0 / 3.0, z), 1.0, 2.5, xtol=1e-15)
+    return 9.0 * j * j / 4.0 * EI / L**3
+
+
+def heavy_column_tip_load(q: float, L: float, EI: float, n_scan: int = 200) -> float:
+    """Critical dead tip load P of a clamped vertical column that also carries its weight q.
+
+    Small lateral deflection w(s) of a column clamped at s = 0 and free at s = L,
+    axial compression P + q·(L − s) (Timoshenko & Gere 1961, *Theory of Elastic
+    Stability*, §2.10 for the heavy column): lateral equilibrium of the part above s
+    gives EI·w''' + (P + q·(L − s))·w' = 0 (no shear at the free top, since the tip
+    load and the weight stay vertical), so with θ = w':
+
+        EI·θ'' + (P + q·(L − s))·θ = 0,  θ(0) = 0 (clamp),  θ'(L) = 0 (no moment at the top).
+
+    The lowest eigenvalue P is found by shooting (scipy.integrate.solve_ivp from the
+    clamp with θ(0) = 0, θ'(0) = 1; the mismatch is θ'(L)) and brentq. It lies above
+    −q·L (where the axial force P + q·(L − s) is nowhere compressive and θ' cannot
+    vanish) and at most at Euler's π²EI/(4L²) (the weight only adds compression); that
+    range, widened by 1 % so that q = 0 falls inside, is scanned upward in ``n_scan``
+    cells for the first sign change. The cells are far finer than the spacing of the
+    eigenvalues for q·L³/EI up to a few hundred. Negative P: the weight alone exceeds Greenhill's
+    load (:func:`greenhill_weight`) and the tip must be pulled up.
+
+    Returns
+    -------
+    float
+        Critical P (compression positive).
+    """
+    from scipy.integrate import solve_ivp
+
+    if q < 0.0:
+        raise ValueError(f"`q` must be non-negative, got {q!r}.")
+
+    def mismatch(P):
+        """θ'(L) for each P (array): one solve_ivp over all of them at once."""
+        P = np.atleast_1d(np.asarray(P, dtype=float))
+        f = lambda s, y: np.concatenate([y[len(P):], -(P + q * (L - s)) / EI * y[:len(P)]])
+        y0 = np.concatenate([np.zeros(len(P)), np.ones(len(P))])
+        sol = solve_ivp(f, (0.0, L), y0, rtol=1e-12, atol=1e-14)
+        return sol.y[len(P):, -1]
+
+    lo, hi = -q * L, 1.01 * np.pi**2 * EI / (4.0 * L**2)
+    grid = np.linspace(lo, hi, n_scan + 1)
+    m = mismatch(grid)
+    change = np.flatnonzero(np.sign(m[1:]) != np.sign(m[:-1]))
+    if len(change):
+        a, b = grid[change[0]], grid[change[0] + 1]
+        return float(brentq(lambda P: mismatch(P)[0], a, b, xtol=1e-15 * (hi - lo), rtol=1e-14))
+    raise RuntimeError(f"No critical tip load found in [{lo}, {hi}] for q = {q}.")

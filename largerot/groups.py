@@ -183,8 +183,9 @@ def beam_stress_stiffness(dX: np.ndarray, L0: np.ndarray, q: np.ndarray) -> np.n
             * (np.einsum("ei,ej->eij", r, z) + np.einsum("ei,ej->eij", z, r)))
 
 
-def bar_stress_stiffness(dX: np.ndarray, L0: np.ndarray, N: np.ndarray) -> np.ndarray:
-    """Geometric stiffness N/L·z⊗z of bars at the undeformed geometry, shape (n_elements, 4, 4)."""
+def bar_stress_stiffness(dX: np.ndarray, N: np.ndarray) -> np.ndarray:
+    """Geometric stiffness N/L·z⊗z of bars at the undeformed chord dX, shape (n_elements, 4, 4)."""
+    L0 = np.hypot(dX[:, 0], dX[:, 1])
     c, s = dX[:, 0] / L0, dX[:, 1] / L0
     z = np.stack([s, -c, -s, c], axis=1)
     return (N / L0)[:, None, None] * np.einsum("ei,ej->eij", z, z)
@@ -313,7 +314,7 @@ class BarGroup(Group):
 
     def stress_stiffness(self, ue):
         N = _central(lambda x: self.evaluate(x, None, False).out["N"], ue, self.length_scale)
-        return bar_stress_stiffness(self.dX, self.L0, N)
+        return bar_stress_stiffness(self.dX, N)
 
     @property
     def events(self):
