@@ -18,9 +18,15 @@ the case's reference, and three signs of trouble (module constants below):
 * **stall** — ``STALL_WINDOW`` successive increments that together move less than
   ``STALL_SHARE`` of the path's extent, or points that repeat;
 * **hidden snap** — an increment whose displacement per unit of the control grows
-  ``JUMP_FACTOR``-fold over the previous increments with no critical point reported
-  between them (load and displacement control), or the count of negative
+  ``JUMP_FACTOR``-fold over the previous increments with no critical point or
+  ``"snap"`` event reported between them while the path misses its reference (load
+  and displacement control: a steep stretch that stays on the reference path, like
+  an imperfect column near its Euler load, is not a snap), or the count of negative
   eigenvalues changing with no critical point;
+
+Goal: the target or stop was reached; for load control on a problem with a limit
+point, a stop with status ``"limit"`` at a located limit point is the right answer
+(load control cannot pass it) and counts as reaching the goal.
 * **doubling back** — an increment nearly opposite to the one before it
   (cosine < ``BACK_COSINE`` in the scaled (u, λ) space).
 
@@ -119,7 +125,7 @@ def path_measures(path, control) -> dict:
         out["stall"] = bool(window.min() < STALL_SHARE) or out["repeats"] > 0
     else:
         out["stall"] = out["repeats"] > 0
-    crit = {c.index for c in path.critical_points}
+    crit = {c.index for c in path.critical_points} | {e.index for e in path.events if e.kind == "snap"}
     du = np.linalg.norm(np.diff(path.u, axis=0), axis=1)
     if control == "load":
         dc = np.abs(np.diff(path.load_factor))
@@ -134,11 +140,13 @@ def path_measures(path, control) -> dict:
             before = max(rate[i - 1], rate[i - 2])
             if rate[i] > JUMP_FACTOR * before and not ({i - 2, i - 1, i} & crit):
                 snaps.append(i)
+    steep = list(snaps)
     nn = path.n_negative
     for i in range(1, n):
         if nn[i] != nn[i - 1] and (i - 1) not in crit:
             snaps.append(i - 1)
     out["hidden_snap"] = len(set(snaps))
+    out["steep_only"] = bool(snaps) and set(snaps) == set(steep)
     out["snap_at"] = (float(path.load_factor[min(snaps)]) if snaps else None)
     if control in CONSTRAINTS:
         cos = np.einsum("ij,ij->i", dx[1:], dx[:-1]) / np.maximum(d[1:] * d[:-1], 1e-300)
@@ -159,7 +167,8 @@ def _run_one(case: str, control: str, conn) -> None:
                         stop=setup.stop, max_steps=MAX_STEPS)
         wall = time.perf_counter() - t_build
         it = path.iterations[1:]
-        goal = path.status in ("target", "stopped")
+        goal = path.status in ("target", "stopped") or (
+            path.status == "limit" and any(c.kind == "limit" and c.located for c in path.critical_points))
         out.update(status=path.status, message=path.message, points=len(path),
                    step_cuts=int(path.counters.get("step_cuts", 0)),
                    iterations_per_point=float(it.mean()) if len(it) else float("nan"),
@@ -175,6 +184,8 @@ def _run_one(case: str, control: str, conn) -> None:
             out.update(ref_error=float(err), ref_note=note, tol=setup.tol,
                        matched=bool(np.isfinite(err) and err <= setup.tol) if np.isfinite(err) or np.isinf(err)
                        else None)
+            if out["matched"] and out.get("steep_only"):
+                out["hidden_snap"], out["snap_at"] = 0, None      # steep, on the reference path
     except lr.ModelError as exc:
         wall = time.perf_counter() - t0
         setup = default_cases.CASES[case]()
