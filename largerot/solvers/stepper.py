@@ -46,6 +46,8 @@ MAX_HALVINGS = 10
 MAX_CUTS = 60
 #: A point that took at most this many iterations lets a cut step grow back.
 EASY_ITERATIONS = 4
+#: Default of ``resume(target_load_factor=...)``: keep the target as it is.
+KEEP = object()
 #: Ramp constant loads in at most this many increments if one step does not converge.
 CONSTANT_LOAD_RAMP = 64
 
@@ -346,18 +348,20 @@ class PathStepper:
         """Set (or with None remove) the load factor the trace ends on exactly."""
         self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
 
-    def resume(self, step: float | None = None, target_load_factor: float | None = None) -> None:
-        """Go on with an ended trace: e.g. unload after reaching a target.
+    def resume(self, step: float | None = None, target_load_factor=KEEP) -> None:
+        """Go on with an ended trace: e.g. after an interrupt, or unload after a target.
 
         ``step`` replaces the step size (for load and displacement control its sign
-        sets the direction); ``target_load_factor`` is the new target (None: none).
-        The points traced so far, and the material and contact history, are kept.
+        sets the direction); ``target_load_factor`` is the new target (None: none;
+        left out: the same as before). The points traced so far, and the material
+        and contact history, are kept.
         """
         if self.status == "failed":
             raise RuntimeError("A failed trace cannot be resumed; start a new one.")
         if step is not None:
             self.set_step(step)
-        self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
+        if target_load_factor is not KEEP:
+            self.set_target(target_load_factor)
         self.status = "running"
         self.message = STATUS["running"].message
 
