@@ -15,7 +15,7 @@ region).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
@@ -197,14 +197,8 @@ def two_bar_truss():
     (beyond the limit point: it should stop there or say it snapped).
     """
     a_, h, EA = 2.0, 0.5, 1e4
-    s = lr.Structure()
-    left, apex, right = s.node(-a_, 0.0), s.node(0.0, h), s.node(a_, 0.0)
-    sec = lr.Section(E=EA, A=1.0)
-    s.bar(left, apex, sec)
-    s.bar(apex, right, sec)
-    s.fix(left, "ux", "uy")
-    s.fix(right, "ux", "uy")
-    s.load(apex, fy=-1.0)
+    sc = examples.two_bar_truss(a_, h, EA)
+    s, apex = sc.structure, sc.apex
     Pm = _truss_limit(a_, h, EA)
 
     def check(path):
@@ -603,15 +597,11 @@ def inclined_beam_1N():
     Reference: the elastica (Bisshopp & Drucker 1945) turned by 30°, tip deflection
     along the load; 32 elements: tolerance 5e-3.
     """
-    L, ang = 4.0, math.radians(30.0)
-    sec = lr.Section.tube(E=210e9, diameter=0.1, wall=0.005)
-    s = lr.Structure()
-    a, b = s.node(0.0, 0.0), s.node(L * math.cos(ang), L * math.sin(ang))
-    s.beam(a, b, sec, segments=32)
-    s.fix(a)
-    n = np.array([-math.sin(ang), math.cos(ang)])
-    s.load(b, fx=n[0], fy=n[1])
-    target = 3.0 * sec.EI / L**2
+    sc = examples.inclined_cantilever(30.0, 4.0, 1.0, 32)
+    s, b = sc.structure, sc.tip
+    L, ang, EI = 4.0, math.radians(30.0), sc.parameters["EI"]
+    n = np.array(sc.parameters["normal"])
+    target = sc.trace_options["target_load_factor"]
     along, short, _ = cf.elastica_tip_load(3.0)
     uy_end = (along * n[1] - short * math.sin(ang)) * L
 
@@ -621,7 +611,7 @@ def inclined_beam_1N():
         if not len(idx):
             return float("nan"), "no loaded point"
         d = path.u[:, 3 * b:3 * b + 2] @ n
-        return max(abs(d[i] / (cf.elastica_tip_load(lam[i] * L**2 / sec.EI)[0] * L) - 1.0)
+        return max(abs(d[i] / (cf.elastica_tip_load(lam[i] * L**2 / EI)[0] * L) - 1.0)
                    for i in idx), "deflection along the load vs elastica"
     return Setup(s, check, 5e-3, load_step=target / 10, disp=(b, "uy", uy_end / 20), target=target,
                  note="λ in newtons; load step target/10; displacement: tip uy, travel/20")

@@ -29,7 +29,7 @@ import numpy as np
 from .model import Structure
 from .sections import Section
 
-__all__ = ["Scenario", "toggle_frame", "shallow_arch", "deep_arch", "column"]
+__all__ = ["Scenario", "two_bar_truss", "inclined_cantilever", "toggle_frame", "shallow_arch", "deep_arch", "column"]
 
 
 @dataclass(frozen=True)
@@ -78,6 +78,52 @@ def _segments(value, even: bool = False) -> int:
     if even and value % 2:
         raise ValueError(f"`segments` must be even (a node at mid-span), got {value!r}.")
     return int(value)
+
+
+def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4) -> Scenario:
+    """Shallow two-bar truss pinned at both feet, a unit load down at the apex (λ is the load).
+
+    Exact curve (statics): :func:`largerot.closed_form.two_bar_truss_load`; a limit
+    point in load, no snap-back at the apex.
+    """
+    a, h, EA = _positive("half_span", half_span), _positive("rise", rise), _positive("EA", EA)
+    s = Structure()
+    left, apex, right = s.node(-a, 0.0), s.node(0.0, h), s.node(a, 0.0)
+    sec = Section(E=EA, A=1.0)
+    s.bar(left, apex, sec)
+    s.bar(apex, right, sec)
+    s.fix(left, "ux", "uy")
+    s.fix(right, "ux", "uy")
+    s.load(apex, fy=-1.0)
+    options = {"stop": lambda p: -p.displacement(apex, "uy") > 2.4 * h, "max_steps": 400}
+    return Scenario(s, options, "Shallow two-bar truss with a load at its apex: snap-through.",
+                    nodes={"apex": apex, "left": left, "right": right}, curve=(apex, "uy"),
+                    parameters={"half_span": a, "rise": h, "EA": EA})
+
+
+def inclined_cantilever(angle: float = 30.0, length: float = 4.0, load: float = 1.0,
+                        segments: int = 32) -> Scenario:
+    """A steel tube (100 × 5 mm) clamped at ``angle`` degrees, a tip load across it.
+
+    The load (``load``, newtons, perpendicular to the member, turned +90° from it)
+    scales with λ, so with the default 1 N the load factor is the load in newtons:
+    the everyday idiom that must trace with default options. Exact curve: the
+    elastica (:func:`largerot.closed_form.elastica_tip_load`) turned by ``angle``.
+    """
+    L, ang = _positive("length", length), math.radians(float(angle))
+    sec = Section.tube(E=210e9, diameter=0.1, wall=0.005)
+    s = Structure()
+    base, tip = s.node(0.0, 0.0), s.node(L * math.cos(ang), L * math.sin(ang))
+    s.beam(base, tip, sec, segments=_segments(segments))
+    s.fix(base)
+    n = (-math.sin(ang), math.cos(ang))
+    P = _positive("load", load)
+    s.load(tip, fx=P * n[0], fy=P * n[1])
+    return Scenario(s, {"target_load_factor": 3.0 * sec.EI / L**2 / P},
+                    "Steel tube clamped at an angle with a tip load across it (λ in newtons).",
+                    nodes={"base": base, "tip": tip}, curve=(tip, "uy"),
+                    parameters={"angle": float(angle), "length": L, "load": P, "EI": sec.EI,
+                                "normal": n})
 
 
 def toggle_frame(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4,

@@ -494,10 +494,6 @@ class Structure:
         """Global DOF indices and stiffnesses of grounded springs."""
         return self.snapshot().spring_table()
 
-    def contact_table(self) -> list:
-        """(node, obstacle) pairs in the order given."""
-        return list(self._contacts)
-
     # -- snapshot ingredients ------------------------------------------------------
     def _load_vector(self, constant: bool, n_nodes: int, lengths: dict) -> np.ndarray:
         f = np.zeros(3 * n_nodes)

@@ -22,12 +22,6 @@ __all__ = ["Model"]
 _TABLES = ("beam", "bar")
 
 
-def _frozen(a, dtype=None) -> np.ndarray:
-    a = np.array(a, dtype=dtype)
-    a.setflags(write=False)
-    return a
-
-
 @dataclass(frozen=True, eq=False)
 class Model:
     """An immutable, arrays-only snapshot of a structure.
@@ -86,9 +80,11 @@ class Model:
     label: str = field(default="")
 
     def __post_init__(self) -> None:
-        for name, value in vars(self).items():
-            if isinstance(value, np.ndarray):
-                value.setflags(write=False)
+        for value in vars(self).values():
+            for a in (value if isinstance(value, tuple) else (value,)):
+                for b in (a if isinstance(a, tuple) else (a,)):
+                    if isinstance(b, np.ndarray):
+                        b.setflags(write=False)
 
     # -- sizes ------------------------------------------------------------------
     @property

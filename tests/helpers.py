@@ -1,20 +1,13 @@
 """Small builders and finite-difference helpers shared by the tests."""
 import numpy as np
 
-import largerot as lr
+from largerot import examples
 
 
 def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1e4):
     """Shallow two-bar truss pinned at both feet, unit reference load down at the apex."""
-    s = lr.Structure()
-    left, apex, right = s.node(-half_span, 0.0), s.node(0.0, rise), s.node(half_span, 0.0)
-    sec = lr.Section(E=EA, A=1.0)
-    s.bar(left, apex, sec)
-    s.bar(apex, right, sec)
-    s.fix(left, "ux", "uy")
-    s.fix(right, "ux", "uy")
-    s.load(apex, fy=-1.0)
-    return s, apex
+    sc = examples.two_bar_truss(half_span, rise, EA)
+    return sc.structure, sc.apex
 
 
 def element_jacobian(force, u, h=1e-6):

@@ -1,7 +1,6 @@
 """Path following with default options: no hang, no tuning for small loads, safe to interrupt."""
 from __future__ import annotations
 
-import math
 import signal
 import subprocess
 import sys
@@ -78,15 +77,11 @@ def test_one_newton_reference_load_on_an_arch_and_an_inclined_beam():
                                                              rel=1e-7)
     # a steel tube clamped at 30°, 1 N tip load across it to P·L²/EI = 2: the
     # elastica (Bisshopp & Drucker 1945, Quart. Appl. Math. 3), 32 elements: 1.5e-4
-    L, ang = 4.0, math.radians(30.0)
-    sec = lr.Section.tube(E=210e9, diameter=0.1, wall=0.005)
-    s = lr.Structure()
-    a, b = s.node(0.0, 0.0), s.node(L * math.cos(ang), L * math.sin(ang))
-    s.beam(a, b, sec, segments=32)
-    s.fix(a)
-    n = np.array([-math.sin(ang), math.cos(ang)])
-    s.load(b, fx=n[0], fy=n[1])
-    target = 2.0 * sec.EI / L**2
+    from largerot.examples import inclined_cantilever
+    sc = inclined_cantilever(angle=30.0, length=4.0, load=1.0, segments=32)
+    s, b, L = sc.structure, sc.tip, 4.0
+    n = np.array(sc.parameters["normal"])
+    target = 2.0 * sc.parameters["EI"] / L**2
     path = lr.trace(s, lr.by_load(target / 10), target_load_factor=target)
     assert path.status == "target"
     along = path.u[-1, 3 * b:3 * b + 2] @ n
