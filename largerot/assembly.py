@@ -209,6 +209,15 @@ class Assembly:
         """Event functions of every group."""
         return [e for g in self.groups for e in g.events]
 
+    def before_event(self, states: list, event) -> list:
+        """History continuing the side before ``event`` for its owner group (to locate it).
+
+        Returns ``states`` itself when no group changes it.
+        """
+        new = [g.before_event(st, event) if event in g.events else st
+               for g, st in zip(self.groups, states)]
+        return states if all(n is o for n, o in zip(new, states)) else new
+
     def augmented(self, ev: Evaluation, states: list):
         """New history if a converged point must be solved again (contact updates), else None."""
         new, again = list(states), False

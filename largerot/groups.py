@@ -67,15 +67,24 @@ class EventFunction:
         to non-positive.
     labels : tuple of str
         What each item is (``"node 12"``), for the event's detail.
+    locate_key : str
+        Entry whose zero is searched when locating the event (default ``key``), on the
+        path as the group continues it from the side before the event
+        (:meth:`Group.before_event`): e.g. a contact closes where the gap of the *open*
+        path reaches zero.
     """
 
     kind: str
     key: str
     direction: int
     labels: tuple = ()
+    locate_key: str = ""
 
     def values(self, record: dict) -> np.ndarray:
         return np.atleast_1d(np.asarray(record[self.key], dtype=float))
+
+    def locate_values(self, record: dict) -> np.ndarray:
+        return np.atleast_1d(np.asarray(record[self.locate_key or self.key], dtype=float))
 
     def crossings(self, before: dict, after: dict) -> np.ndarray:
         """Items whose value crosses zero in this event's direction, between two records."""
@@ -117,6 +126,10 @@ class Group:
     @property
     def events(self) -> tuple:
         return ()
+
+    def before_event(self, state, event: EventFunction):
+        """History that continues the side before ``event`` (to locate it), default as is."""
+        return state
 
     def augment(self, res: GroupResult, state, length_scale: float):
         """New history if the converged point must be solved again (contacts), else None."""
@@ -361,13 +374,25 @@ class ContactGroup(Group):
         return {"lam": np.zeros(n), "penalty": np.ones(n)}
 
     def evaluate(self, ue, state, tangent=True) -> GroupResult:
-        res = contact.response(self.X, ue, self.obstacles, state["lam"], state["penalty"], tangent)
+        res = contact.response(self.X, ue, self.obstacles, state["lam"], state["penalty"], tangent,
+                               bilateral=state.get("bilateral"))
         return GroupResult(res.f, res.K, state, {"response": res})
 
     def record(self, res: GroupResult) -> dict:
         cr = res.out["response"]
         return {"contact_force": cr.p, "gap": cr.g,
-                "contact_event": contact.event_value(cr, res.state["penalty"])}
+                "contact_event": contact.event_value(cr, res.state["penalty"]),
+                "contact_force_bilateral": cr.trial}
+
+    def before_event(self, state, event):
+        """Open contacts stay open (no penalty); closed ones stay closed, held by the
+        penalty alone (bilateral, no multiplier): its force −ε·g is zero exactly where
+        the exact contact force is, at g = 0, so the zero is located without Uzawa
+        updates."""
+        if event.kind == "contact closes":
+            return {"lam": np.zeros_like(state["lam"]), "penalty": np.zeros_like(state["penalty"])}
+        return {"lam": np.zeros_like(state["lam"]), "penalty": state["penalty"],
+                "bilateral": np.ones(len(self.nodes), bool)}
 
     def forces(self, ue, record):
         n = contact.gap(self.obstacles, self.X + ue).n
@@ -380,8 +405,10 @@ class ContactGroup(Group):
     @property
     def events(self):
         labels = tuple(f"node {n}" for n in self.nodes)
-        return (EventFunction("contact closes", "contact_event", -1, labels),
-                EventFunction("contact opens", "contact_event", +1, labels))
+        # located on the path continued from before: the open gap reaching zero, or
+        # the force of the contact held closed reaching zero
+        return (EventFunction("contact closes", "contact_event", -1, labels, "gap"),
+                EventFunction("contact opens", "contact_event", +1, labels, "contact_force_bilateral"))
 
     def augment(self, res, state, length_scale):
         cr = res.out["response"]

@@ -255,3 +255,27 @@ def test_buckling_refuses_a_kind_it_cannot_handle():
     spring.__class__ = Odd
     with pytest.raises(lr.ModelError, match="Linear buckling cannot handle"):
         lr.buckling(s)
+
+
+def test_contact_closing_and_opening_located_where_the_gap_closes():
+    # A 3 m cantilever 2 mm above a stop, loaded to twice the touching load and back:
+    # the contact closes and opens where the open (resp. closed) path has the gap
+    # (resp. the force) at zero, found by root finding on the path continued from
+    # the side before the event, so at the same load factor whatever the step (1e-9;
+    # an elastic structure closes and opens at one load). Small-deflection
+    # superposition (common practice, no source) puts it at λ = 1; the tip rotation
+    # of 1e-3 moves it by 4.6e-7 (tolerance 1e-6).
+    from test_yield_and_contact_paths import loaded_onto_stop
+    s, tip, P = loaded_onto_stop(2e-3, 3.0)
+    found = []
+    for step in (0.1, 0.35, 0.7):
+        st = lr.by_load(step).stepper(s, target_load_factor=2.0)
+        lr.run(st)
+        st.resume(step=-step, target_load_factor=0.0)
+        path = lr.run(st)
+        kinds = [e.kind for e in path.events]
+        assert kinds == ["contact closes", "contact opens"]
+        assert all("interpolated" not in e.detail for e in path.events)
+        found += [e.load_factor for e in path.events]
+    assert max(found) - min(found) <= 1e-9
+    assert found[0] == pytest.approx(1.0, abs=1e-6)

@@ -168,6 +168,24 @@ def test_live_steps_runs_backs_and_resets():
     assert lv.n_points == 1 and lv.stepper.status == "running"
 
 
+def test_live_draws_each_new_point_once(monkeypatch):
+    # A live trace grows point by point: the view draws the new points only (the
+    # frames already sent are reused), not the whole path at every refresh.
+    from largerot.widgets import data
+    drawn = []
+    original = data.frames
+    monkeypatch.setattr(data, "frames", lambda path, pts, *a, **k: (drawn.extend(int(i) for i in pts),
+                                                                    original(path, pts, *a, **k))[1])
+    s, base, top = lighting_pole(segments=6)
+    lv = lr.widgets.live(s, lr.by_load(0.05), target_load_factor=1.0, node=top, dof="ux",
+                         update_interval=0.0)
+    lv.run(block=True)
+    assert lv.n_points == 21 and lv.view.canvas.n_frames == 21
+    assert sorted(drawn) == list(range(21))          # every point drawn exactly once
+    lv.view.scale = 2.0                              # a new scale redraws them all
+    assert len(drawn) == 42
+
+
 def test_live_runs_to_a_number_of_points_and_takes_edited_steps():
     s, base, top = lighting_pole(segments=6)
     lv = lr.widgets.live(s, lr.by_load(0.1), target_load_factor=None, target_kind="points",

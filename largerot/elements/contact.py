@@ -129,6 +129,7 @@ class ContactResponse(NamedTuple):
     p: np.ndarray          #: normal contact force ≥ 0 (obstacle on node, along n), shape (n_contacts,)
     n: np.ndarray          #: outward normal ∇g, shape (n_contacts, 2)
     active: np.ndarray     #: p > 0, shape (n_contacts,)
+    trial: np.ndarray      #: λ − ε·g, the force before the cut-off at zero, shape (n_contacts,)
 
 
 def table(obstacles: Sequence, index) -> ObstacleTable:
@@ -167,7 +168,7 @@ def gap(obstacles: ObstacleTable, x: np.ndarray) -> Gap:
 
 
 def response(X: np.ndarray, u: np.ndarray, obstacles: ObstacleTable, lam, penalty,
-             tangent: bool = True) -> ContactResponse:
+             tangent: bool = True, bilateral=None) -> ContactResponse:
     """Contact forces and tangents of nodes at fixed multipliers.
 
     Parameters
@@ -184,11 +185,17 @@ def response(X: np.ndarray, u: np.ndarray, obstacles: ObstacleTable, lam, penalt
         Penalty ε > 0 (force per length), e.g. from :func:`penalty_from_stiffness`.
     tangent : bool
         Also compute the tangent.
+    bilateral : ndarray of bool, shape (n_contacts,), optional
+        Contacts held closed whatever the sign of their force (p = λ − ε·g may be
+        negative): the closed side of the path continued, to locate where a contact
+        opens (its force reaching zero).
     """
     gp = gap(obstacles, X + u)
     eps = np.broadcast_to(np.asarray(penalty, dtype=float), gp.g.shape)
     trial = lam - eps * gp.g
     active = trial > 0.0
+    if bilateral is not None:
+        active = active | np.asarray(bilateral, dtype=bool)
     p = np.where(active, trial, 0.0)
     f = -p[:, None] * gp.n
     K = None
@@ -196,7 +203,7 @@ def response(X: np.ndarray, u: np.ndarray, obstacles: ObstacleTable, lam, penalt
         K = np.where(active[:, None, None],
                      eps[:, None, None] * gp.n[:, :, None] * gp.n[:, None, :]
                      - p[:, None, None] * gp.H, 0.0)
-    return ContactResponse(f, K, gp.g, p, gp.n, active)
+    return ContactResponse(f, K, gp.g, p, gp.n, active, trial)
 
 
 def updated_multipliers(res: ContactResponse) -> np.ndarray:
@@ -225,7 +232,8 @@ def converged(res: ContactResponse, tol_gap: float) -> bool:
 
 def event_value(res: ContactResponse, penalty) -> np.ndarray:
     """g − p/ε per contact: > 0 open, < 0 closed; its zeros are openings and closings."""
-    return res.g - res.p / np.asarray(penalty, dtype=float)
+    eps = np.broadcast_to(np.asarray(penalty, dtype=float), res.g.shape)
+    return res.g - np.divide(res.p, eps, out=np.zeros_like(res.g), where=eps > 0.0)
 
 
 def penalty_from_stiffness(k_node, factor: float = PENALTY_FACTOR) -> np.ndarray:

@@ -107,27 +107,28 @@ def crossings(group_events, users, rec_a: dict, rec_b: dict, point_a, point_b) -
     return out
 
 
-def locate_crossings(found: list, bracket: Bracket | None, record_at, point_at,
-                     lam_a: float, lam_b: float) -> list:
-    """Load factor (and σ) of each crossing, by root finding along ``bracket``.
+def locate_crossings(found: list, bracket_for, point_at, lam_a: float, lam_b: float) -> list:
+    """Load factor (and σ) of each crossing, by root finding along its bracket.
 
-    ``record_at(res)`` gives the record of a converged NewtonResult and
-    ``point_at(res)`` the Point; both are cached by σ here. Without a bracket (no
-    path to follow between the points, e.g. from a slack start) the values are
-    interpolated. Returns a list of ``(crossing, sigma, lam, located)``.
+    ``bracket_for(event)`` gives the :class:`Bracket` to search on (the path as the
+    event's group continues it from the side before the event), or None where there
+    is no path to follow between the points (a slack start): the values are then
+    interpolated. ``point_at(res)`` makes the Point a user's event function takes.
+    Records are cached by bracket and σ. Returns ``(crossing, sigma, lam, located)``.
     """
-    records: dict[float, tuple] = {}
+    records: dict[tuple, tuple] = {}
 
-    def value(c: Crossing, sigma: float) -> float:
-        if sigma not in records:
-            res = bracket.solve(sigma)
-            records[sigma] = (res, record_at(res), None)
-        res, rec, pt = records[sigma]
+    def value(c: Crossing, br: Bracket, sigma: float) -> float:
+        key = (id(br), sigma)
+        if key not in records:
+            res = br.solve(sigma)
+            records[key] = (res, br.problem.record(res.u, res.lam), None)
+        res, rec, pt = records[key]
         if hasattr(c.event, "key"):
-            return float(c.event.values(rec)[c.item])
+            return float(c.event.locate_values(rec)[c.item])
         if pt is None:
             pt = point_at(res)
-            records[sigma] = (res, rec, pt)
+            records[key] = (res, rec, pt)
         return c.event.values(pt)
 
     out, per_kind = [], {}
@@ -136,15 +137,19 @@ def locate_crossings(found: list, bracket: Bracket | None, record_at, point_at,
         n = per_kind[c.event] = per_kind.get(c.event, 0) + 1
         t = c.f_a / (c.f_a - c.f_b)                       # linear interpolation fallback
         sigma, located = t, False
-        if bracket is not None and n <= MAX_LOCATED:
+        br = bracket_for(c.event)
+        if br is not None and n <= MAX_LOCATED:
             try:
-                sigma = bracket.root(lambda s, c=c: value(c, s), c.f_a, c.f_b, EVENT_SIGMA_TOL)
+                f_a, f_b = c.f_a, c.f_b
+                if hasattr(c.event, "key"):            # the searched values at the ends
+                    f_a, f_b = value(c, br, 0.0), value(c, br, 1.0)
+                sigma = br.root(lambda s, c=c, br=br: value(c, br, s), f_a, f_b, EVENT_SIGMA_TOL)
                 located = True
             except (NoPoint, ValueError, RuntimeError) as exc:
                 log.info("event %r between λ = %.6g and %.6g not located: %s", c.event.kind,
-                            lam_a, lam_a + dlam, exc)
+                         lam_a, lam_a + dlam, exc)
         if located and 0.0 < sigma < 1.0:
-            lam = bracket.solve(sigma).lam
+            lam = br.solve(sigma).lam
         else:
             lam = lam_a + sigma * dlam
         out.append((c, float(sigma), float(lam), located))

@@ -493,13 +493,22 @@ class PathStepper:
         found = crossings(self.assembly.events, self.user_events, a.record, b.record, pa, pb)
         if not found:
             return [], None
-        prob = self.problem.with_states(a.history)
-        br = Bracket(prob, self.lam_scale, a.u, a.lam, b.u, b.lam, self.tol, self.max_iterations) \
-            if search else None
-        located = locate_crossings(found, br, lambda r: prob.record(r.u, r.lam),
+        brackets: dict = {}
+
+        def bracket_for(event):
+            if not search:
+                return None
+            history = self.assembly.before_event(a.history, event)
+            key = None if history is a.history else (event.kind, event.locate_key)
+            if key not in brackets:
+                brackets[key] = Bracket(self.problem.with_states(history), self.lam_scale, a.u,
+                                        a.lam, b.u, b.lam, self.tol, self.max_iterations)
+            return brackets[key]
+
+        located = locate_crossings(found, bracket_for,
                                    lambda r: Point(self.model, i, r.lam, self.assembly.expand(r.u)),
                                    a.lam, b.lam)
-        self.n_factorizations += br.n_factorizations if br is not None else 0
+        self.n_factorizations += sum(br.n_factorizations for br in brackets.values())
         events, terminal = [], None
         for c, sigma, lam, ok in located:
             detail = c.detail if ok else (c.detail + " (interpolated)").strip()

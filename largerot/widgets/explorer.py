@@ -88,6 +88,11 @@ class Explorer(w.VBox):
         self.errors = w.Output(layout=w.Layout(display="none", border="1px solid #c0392b"))
         self._points = np.zeros(0, dtype=int)
         self._layout = None
+        # frames and force tables already computed, by path point: reused while a
+        # live trace grows (``extend``); cleared by ``show`` and a change of scale
+        self._frame_cache: dict[int, np.ndarray] = {}
+        self._force_cache: dict[tuple, np.ndarray] = {}
+        self._growing = False
         super().__init__(children=[
             w.HBox([self.play, self.slider, self.menu]),
             self.canvas,
@@ -161,9 +166,27 @@ class Explorer(w.VBox):
             i = n - 1 if index == "last" else (old if index is None else int(index))
             self.index = min(max(i, 0), max(0, n - 1))
 
+    def extend(self, path: EquilibriumPath, index: int | str | None = "last") -> None:
+        """Show a grown version of the path shown (a live trace): points already drawn
+        are not drawn again, only the new ones. Any other path goes to :meth:`show`."""
+        same = (self.path is not None and path.structure is self.path.structure
+                and len(path) >= len(self.path))
+        self._growing = same
+        try:
+            self.show(path, index=index)
+        finally:
+            self._growing = False
+
     def _send_shape(self) -> None:
         path, lay, pts = self.path, self._layout, self._points
-        fr = data.frames(path, pts, lay, self.scale)
+        if not self._growing:
+            self._frame_cache.clear()
+        missing = [int(i) for i in pts if int(i) not in self._frame_cache]
+        if missing:
+            for i, f in zip(missing, data.frames(path, np.array(missing), lay, self.scale)):
+                self._frame_cache[i] = f
+        fr = np.stack([self._frame_cache[int(i)] for i in pts]) if len(pts) else \
+            np.zeros((0, lay.n_vertices, 2), np.float32)
         ghost = lay.vertices(member_lines(path.structure, np.zeros(3 * path.structure.n_nodes), lay.n_sub))
         c = self.canvas
         c.n_frames, c.n_vertices = fr.shape[0], fr.shape[1]
@@ -195,7 +218,15 @@ class Explorer(w.VBox):
             c.force_kind, c.forces = "", b""
             self.note.value = ""
             return
-        values = data.member_force_table(self.path, self._points, name)
+        if not self._growing:
+            self._force_cache.clear()
+        missing = [int(i) for i in self._points if (name, int(i)) not in self._force_cache]
+        if missing:
+            table = data.member_force_table(self.path, np.array(missing), name)
+            for k, i in enumerate(missing):
+                self._force_cache[(name, i)] = None if table is None else table[k]
+        rows = [self._force_cache[(name, int(i))] for i in self._points]
+        values = None if not rows or rows[0] is None else np.stack(rows)
         if values is None:
             c.force_kind, c.forces = "", b""
             self.note.value = (f"<i>This path carries no member forces ({data.FORCE_NAMES[name]}); "
@@ -221,6 +252,7 @@ class Explorer(w.VBox):
         if not change["new"] > 0:
             raise ValueError(f"`scale` must be positive, got {change['new']!r}.")
         if self.path is not None and self._layout is not None:
+            self._frame_cache.clear()
             with self.canvas.hold_sync():
                 self._send_shape()
 

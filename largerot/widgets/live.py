@@ -275,10 +275,10 @@ class Live(w.VBox):
         self._checked = len(neg)
         node, dof = self._curve
         with self.hold_sync():
-            if self.view.path is None:
+            if self.view.path is None or self.view.path.structure is not self.path.structure:
                 self.view.show(self.path, node=node, dof=dof, index="last")
             else:
-                self.view.show(self.path, index="last")
+                self.view.extend(self.path)              # only the new points are drawn
             self.n_points = len(self.path)
             lam, u, n = self._now()
             self.bar.value = progress(self.target_kind, self.target, lam, u, n)
