@@ -80,6 +80,7 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
     d = x1 - x0
     stretch = 1.0 + np.einsum("ei,ei->e", x0, d) / l0sq    # (l0 + Δl)/l0
     phi = (x0[:, 0] * d[:, 1] - x0[:, 1] * d[:, 0]) / l0sq  # Δφ
+    log.debug("chord fit: largest turn %.3g rad", float(np.abs(phi).max()))
     c, s = stretch * np.cos(phi), stretch * np.sin(phi)
     target = np.stack([c * x0[:, 0] - s * x0[:, 1], s * x0[:, 0] + c * x0[:, 1]], axis=1)
     misfit = (target - x1).ravel()                         # (2n,): chord x, y per element
