@@ -16,7 +16,11 @@ map) and answers, for element displacements ``ue`` of shape (n_elements, n_dof):
 ``stress_stiffness(ue)``
     the geometric stiffness of the linear state ``ue`` (for linear buckling);
 ``events``
-    the event functions the group contributes (first yield, contact, cable slack).
+    the event functions the group contributes (first yield, contact, cable slack);
+``chords``
+    for beams, ``(translation DOF map (n_elements, 4), dX (n_elements, 2), EA/L0
+    (n_elements,))``: the chords the path predictor keeps consistent with the
+    predicted rotations (:mod:`largerot.solvers.predictor`); None for other kinds.
 
 Groups with history (fibre beams, contacts) return it from ``initial_state()``; the
 history is plain data owned by the stepper and passed in. ``augment`` and
@@ -131,6 +135,11 @@ class Group:
         """History that continues the side before ``event`` (to locate it), default as is."""
         return state
 
+    @property
+    def chords(self):
+        """Beams' chords for the path predictor (module docstring), else None."""
+        return None
+
     def augment(self, res: GroupResult, state, length_scale: float):
         """New history if the converged point must be solved again (contacts), else None."""
         return None
@@ -209,6 +218,11 @@ def _beam_end_forces(q: np.ndarray, l: np.ndarray) -> dict:
     return {"N": N, "V": (M1 + M2) / l, "M": np.stack([-M1, M2], axis=1)}
 
 
+def _beam_chords(g) -> tuple:
+    """(translation DOF map (n, 4), dX (n, 2), EA/L0 (n,)) of a beam group."""
+    return g.dofmap[:, [0, 1, 3, 4]], g.dX, g.EA / g.L0
+
+
 # -- groups ---------------------------------------------------------------------------
 @dataclass(eq=False)
 class BeamGroup(Group):
@@ -235,6 +249,10 @@ class BeamGroup(Group):
         q = _central(lambda x: beam.response(self.dX, self.L0, x, self.EA, self.EI, False).q,
                      ue, self.length_scale)
         return beam_stress_stiffness(self.dX, self.L0, q)
+
+    @property
+    def chords(self):
+        return _beam_chords(self)
 
 
 @dataclass(eq=False)
@@ -294,6 +312,10 @@ class FibreBeamGroup(Group):
     @property
     def events(self):
         return (EventFunction("first yield", "yield_margin", +1, ("fibre beams",)),)
+
+    @property
+    def chords(self):
+        return _beam_chords(self)
 
 
 @dataclass(eq=False)

@@ -74,9 +74,9 @@ class LoadStepper(PathStepper):
         if self.target is not None and (self.lam + h - self.target) * (self.lam - self.target) <= 0:
             dlam = self.target - self.lam          # shorten the last step to land on the target
         lam = self.lam + dlam
-        du = dlam * self.tangent_direction()
-        self._predicted = du
-        return self.u + du, lam, LoadConstraint(lam)
+        u = self._along(dlam * self.tangent_direction())
+        self._predicted = u - self.u
+        return u, lam, LoadConstraint(lam)
 
     # -- limit points ---------------------------------------------------------------
     def step(self) -> str:

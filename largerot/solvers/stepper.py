@@ -31,6 +31,7 @@ from .critical import Bracket, locate
 from .equilibrium import settle
 from .events import crossings, locate_crossings, user_events
 from .newton import FLOOR_FACTOR, LoadConstraint, NewtonResult, newton, roundoff_level
+from .predictor import chord_consistent
 from .problem import Problem
 from .stability import count_negative
 from .status import STATUS
@@ -529,6 +530,14 @@ class PathStepper:
     def _predict(self, h: float):
         """Return ``(u_pred, lam_pred, constraint)`` for a step ``h``, or None."""
         raise NotImplementedError
+
+    def _along(self, du: np.ndarray) -> np.ndarray:
+        """The predicted displacements for the tangent increment ``du`` from the last point.
+
+        ``u + du`` with the beams' chords rebuilt to the increment's first-order
+        length and direction (:func:`~largerot.solvers.predictor.chord_consistent`).
+        """
+        return chord_consistent(self.assembly, self.u, self.u + du)
 
     # -- views ------------------------------------------------------------------------
     def factorization(self):
