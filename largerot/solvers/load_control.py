@@ -7,7 +7,8 @@ away (the snap-through an engineer must not miss). Both are caught:
 * a converged point whose correction is more than ``JUMP_FACTOR`` times the
   predicted increment, or whose increment is more than ``JUMP_FACTOR`` times the last
   one, is suspected of a jump (near a limit the tangent predictor itself blows up);
-* a step that fails down to ``min_step`` is suspected of ending at a limit.
+* a step cut ``LIMIT_SEARCH_AFTER_CUTS`` times in a row (or down to ``min_step``) is
+  suspected of ending at a limit.
 
 Either way a short arc-length search (spherical constraint, ψ = 1) starts from the
 last point toward the load asked for, and if the tangent's inertia changes on the
@@ -44,9 +45,12 @@ AT_LIMIT = ("stop", "jump")
 #: step up to its limit); the snap onto the far branch is 12× the last increment.
 #: A false suspicion costs only the limit search.
 JUMP_FACTOR = 5.0
+#: A step cut this many times in a row starts the search for a limit point (instead
+#: of halving on down to ``min_step``, 10 cuts, before looking).
+LIMIT_SEARCH_AFTER_CUTS = 3
 #: Arc-length steps of the search for a limit point (each a short Newton solve).
 LIMIT_SEARCH_STEPS = 40
-#: Its first arc length as a share of the step asked for (in the metric).
+#: Its first arc length as a share of the last step of the path (in the metric).
 LIMIT_SEARCH_SHARE = 0.25
 
 
@@ -64,6 +68,7 @@ class LoadStepper(PathStepper):
         self.at_limit = at_limit
         self._predicted = None
         self._snap = None
+        self._searched = -1                   # point from which a limit was last sought
         super().__init__(structure, step, **options)
         if self.target is not None and (self.target - self.lam) * self.h < 0.0:
             raise ValueError(f"`target_load_factor` {self.target!r} lies behind the first load step "
@@ -101,6 +106,13 @@ class LoadStepper(PathStepper):
 
     def _attempt(self, h: float):
         res = super()._attempt(h)
+        if (res is None or not res.converged) and abs(h) * 2**LIMIT_SEARCH_AFTER_CUTS <= self.h_nominal \
+                and self._searched != self.n_points:
+            # a step that keeps failing: look for a limit before halving any further
+            self._searched = self.n_points
+            cp = self._find_limit(self.lam + np.sign(h) * self.h_nominal)
+            if cp is not None:
+                raise _LimitReached(cp)
         if res is None or not res.converged or self._predicted is None:
             return res
         p = self.problem
@@ -131,7 +143,8 @@ class LoadStepper(PathStepper):
                                              f"to point {i + 1} (λ = {rec.lam:.6g})"))
 
     def _fail(self, why: str) -> str:
-        cp = self._find_limit(self.lam + np.sign(self.h) * self.h_nominal)
+        cp = None if self._searched == self.n_points else \
+            self._find_limit(self.lam + np.sign(self.h) * self.h_nominal)
         if cp is not None:
             return self._stop_at(cp)
         return super()._fail(why)
@@ -159,7 +172,11 @@ class LoadStepper(PathStepper):
             if not np.isfinite(norm) or norm == 0.0:
                 return None
             if dl is None:
-                dl = LIMIT_SEARCH_SHARE * abs(lam_end - a.lam) * norm
+                # sized by the last step of the path: next to a limit the tangent
+                # K⁻¹F is huge, and a step sized by it would leap to another branch
+                last = self._previous_increment()
+                dl = LIMIT_SEARCH_SHARE * (metric.norm(*last) if last is not None
+                                           else abs(lam_end - a.lam) * norm)
             sense = sign if prev is None else (1.0 if metric.dot(prev[0], prev[1], v, 1.0) >= 0 else -1.0)
             dlam = sense * dl / norm
             res = newton(prob, u + dlam * v, lam + dlam, QuadraticConstraint(metric, u, lam, dl), u,
