@@ -28,7 +28,7 @@ from ..linalg import Factorization, SingularTangent
 from ..results import Event
 from .constraints import Metric, QuadraticConstraint
 from .critical import locate
-from .newton import LoadConstraint, newton
+from .newton import LoadConstraint, NewtonResult, newton
 from .stability import count_negative
 from .status import STATUS
 from .stepper import PathStepper
@@ -110,7 +110,7 @@ class LoadStepper(PathStepper):
                 and self._searched != self.n_points:
             # a step that keeps failing: look for a limit before halving any further
             self._searched = self.n_points
-            cp = self._find_limit(self.lam + np.sign(h) * self.h_nominal)
+            cp, _ = self._find_limit(self.lam + np.sign(h) * self.h_nominal)
             if cp is not None:
                 raise _LimitReached(cp)
         if res is None or not res.converged or self._predicted is None:
@@ -121,14 +121,20 @@ class LoadStepper(PathStepper):
         if prev is not None:
             # near a limit the tangent predictor itself blows up: compare with the last step
             far = far or p.norm(res.u - self.u) > JUMP_FACTOR * p.norm(prev[0])
-        if not far:
+        lost = count_negative(res.factorization) != self._points[-1].n_negative
+        if not (far or lost):
             return res
-        cp = self._find_limit(res.lam)
-        if cp is None:
-            return res
-        if self.at_limit == "stop":
-            raise _LimitReached(cp)
-        self._snap = cp
+        cp, passed = self._find_limit(res.lam)
+        if cp is not None:
+            if self.at_limit == "stop":
+                raise _LimitReached(cp)
+            self._snap = cp
+        elif passed and lost:
+            # the path itself reaches this load with its stability unchanged: Newton
+            # landed on another branch (e.g. the unstable one of an imperfect column)
+            return NewtonResult(False, res.u, res.lam, res.iterations, res.residuals,
+                                "Converged onto another branch (its stability differs from the "
+                                "path's at this load); the step is cut.")
         return res
 
     def _accept(self, res) -> None:
@@ -144,13 +150,15 @@ class LoadStepper(PathStepper):
 
     def _fail(self, why: str) -> str:
         cp = None if self._searched == self.n_points else \
-            self._find_limit(self.lam + np.sign(self.h) * self.h_nominal)
+            self._find_limit(self.lam + np.sign(self.h) * self.h_nominal)[0]
         if cp is not None:
             return self._stop_at(cp)
         return super()._fail(why)
 
     def _find_limit(self, lam_end: float):
-        """A limit point between the last point and λ = ``lam_end``, located, or None.
+        """``(cp, passed)``: a limit point between the last point and λ = ``lam_end``,
+        located (or None), and whether the path was followed past ``lam_end`` with its
+        stability unchanged.
 
         Short arc-length continuation from the last point (spherical constraint,
         ψ = 1) until the inertia of the tangent changes (then located), λ passes
@@ -167,10 +175,10 @@ class LoadStepper(PathStepper):
             try:
                 v = Factorization(K, symmetric=prob.symmetric).solve(prob.F)
             except SingularTangent:
-                return None
+                return None, False
             norm = metric.norm(v, 1.0)
             if not np.isfinite(norm) or norm == 0.0:
-                return None
+                return None, False
             if dl is None:
                 # sized by the last step of the path: next to a limit the tangent
                 # K⁻¹F is huge, and a step sized by it would leap to another branch
@@ -191,11 +199,11 @@ class LoadStepper(PathStepper):
                               self.tol, self.tol_u, self.max_iterations)
                 self.n_factorizations += info["n_factorizations"]
                 if info["kind"] != "limit":
-                    return None
-                return self._critical_from(info, self.n_points - 1)
+                    return None, False
+                return self._critical_from(info, self.n_points - 1), False
             if (res.lam - lam_end) * sign > 0.0:
-                return None                       # past the load asked for: no limit on the way
+                return None, True                 # past the load asked for: no limit on the way
             prev = (res.u - u, res.lam - lam)
             u, lam = res.u, res.lam
             dl *= 1.5
-        return None
+        return None, False

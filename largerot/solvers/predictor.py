@@ -1,4 +1,4 @@
-"""The predicted point of a step: the tangent increment with the beams' chords kept whole.
+"""Moving along an increment with the beams' chords kept whole (predictor and corrections).
 
 The tangent predictor u + Δλ·δu_F moves every node along a straight line. A beam
 element whose chord turns by φ in the step then comes out stretched by about
@@ -19,6 +19,10 @@ translations are the least-squares fit to those chords, weighted by EA/l₀
 cantilever; the closure error of a closed frame shared out by axial stiffness).
 Rotations, the other kinds' DOFs and DOFs no beam touches keep the tangent
 increment. The change from the tangent predictor is of second order in the step.
+
+The same rebuild moves the nodes along each Newton correction (``Problem.moved``,
+``newton.CHORD_CORRECTION``): a correction on a fine mesh turns the short chords just
+as a predictor does.
 
 The normal equations are (GᵀWG + εI)·δ = GᵀW·m, where G maps the free translations
 to chord vectors (one row per chord and direction, ±1 at its two ends), W the

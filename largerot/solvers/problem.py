@@ -13,6 +13,7 @@ import copy
 import numpy as np
 
 from ..assembly import Assembly, Evaluation
+from .predictor import chord_consistent
 
 __all__ = ["Problem"]
 
@@ -97,6 +98,14 @@ class Problem:
     def record(self, u: np.ndarray, lam: float) -> dict:
         """Per-point data worth keeping at a converged (u, λ) (see ``Assembly.record``)."""
         return self.assembly.record(self.evaluation(u, lam))
+
+    def moved(self, u: np.ndarray, du: np.ndarray) -> np.ndarray:
+        """``u + du`` with the beams' chords kept whole to first order in ``du``
+        (:func:`~largerot.solvers.predictor.chord_consistent`), where every group
+        allows it (``Group.chord_fit``; not with contacts)."""
+        if not all(g.chord_fit for g in self.assembly.groups):
+            return u + du
+        return chord_consistent(self.assembly, u, u + du)
 
     def norm(self, du: np.ndarray) -> float:
         """Weighted displacement norm (rotations scaled by the structure's size)."""
