@@ -306,11 +306,9 @@ class FibreBeamGroup(Group):
     def end_forces(self, ue, record):
         return _beam_end_forces(record["fibre_q"], self._chord(ue)[0])
 
-    def stress_stiffness(self, ue):
-        # linear buckling is an elastic analysis: the sections' elastic EA and EI
-        q = _central(lambda x: beam.response(self.dX, self.L0, x, self.EA, self.EI, False).q,
-                     ue, self.length_scale)
-        return beam_stress_stiffness(self.dX, self.L0, q)
+    # linear buckling is an elastic analysis: the elastic beam's, with the sections'
+    # elastic EA and EI
+    stress_stiffness = BeamGroup.stress_stiffness
 
     @property
     def events(self):
