@@ -19,7 +19,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
-from scipy.optimize import brentq, fsolve
+from scipy.optimize import brentq
 
 import largerot as lr
 from largerot import closed_form as cf
@@ -392,7 +392,7 @@ def cable_catenary():
 def cable_point_load():
     """Pretensioned cable (5 kN) in two straight pieces, point load 20 kN × λ.
 
-    Reference: exact statics of two straight elastic segments (scipy fsolve), joint
+    Reference: exact statics of two straight elastic segments (closed_form.cable_joint), joint
     sag; exact up to Newton's tolerance: tolerance 1e-5.
     """
     s = lr.Structure()
@@ -404,19 +404,9 @@ def cable_point_load():
     s.fix(a, "ux", "uy")
     s.fix(b, "ux", "uy")
     s.load(c, fy=P)
-    EA = sec.EA
-    l01, l02 = 12.0 * EA / (EA + T0), 18.0 * EA / (EA + T0)
 
     def joint(lam):
-        def f(p):
-            x, y = p
-            out = np.zeros(2)
-            for ex, l0 in ((0.0, l01), (30.0, l02)):
-                d = np.array([ex - x, -y])
-                l = np.hypot(*d)
-                out += EA * (l - l0) / l0 * d / l
-            return out + [0.0, lam * P]
-        return fsolve(f, [12.0, -0.5], xtol=1e-14)
+        return cf.cable_joint(12.0, 18.0, sec.EA, T0, lam * P)
     y1 = joint(1.0)[1]
 
     def check(path):

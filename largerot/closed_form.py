@@ -49,6 +49,39 @@ def end_moment_tip(theta: float) -> tuple[float, float]:
     return np.sin(theta) / theta - 1.0, (1.0 - np.cos(theta)) / theta
 
 
+def cable_joint(left: float, right: float, EA: float, pretension: float, P: float):
+    """Position (x, y) of the loaded joint of a taut cable in two straight pieces.
+
+    Supports at (0, 0) and (left + right, 0), the joint at (left, 0) before loading;
+    both pieces pretensioned to ``pretension`` (unstretched lengths l·EA/(EA + T0)) and
+    a vertical force ``P`` at the joint. Exact statics of two straight elastic
+    segments (common practice, no source): each carries N = EA·(l − l0)/l0 along its
+    chord, and the joint is in equilibrium; solved with scipy's ``fsolve``.
+
+    >>> x, y = cable_joint(12.0, 18.0, 3.2e7, 5e3, 0.0)
+    >>> round(float(x), 9), round(float(y), 9)
+    (12.0, 0.0)
+    """
+    from scipy.optimize import fsolve
+
+    span = left + right
+    pieces = ((0.0, left * EA / (EA + pretension)), (span, right * EA / (EA + pretension)))
+
+    def balance(p):
+        x, y = p
+        f = np.zeros(2)
+        for end, l0 in pieces:
+            d = np.array([end - x, -y])
+            l = np.hypot(*d)
+            f += EA * (l - l0) / l0 * d / l
+        return f + [0.0, P]
+
+    guess = [left, -0.05 * span if P < 0 else 0.05 * span]
+    # full output: "xtol too small" is fsolve's way of saying it is at round-off
+    p, *_ = fsolve(balance, guess, xtol=1e-14, full_output=True)
+    return p
+
+
 def two_bar_truss_load(v, half_span: float, rise: float, EA: float):
     """Apex load P of a symmetric two-bar truss pushed down by v (statics, exact).
 

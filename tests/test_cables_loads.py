@@ -3,11 +3,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from scipy.optimize import fsolve
 
 import largerot as lr
 from largerot.assembly import Assembly
-from largerot.closed_form import (elastic_catenary, follower_tip_cantilever,
+from largerot.closed_form import (cable_joint, elastic_catenary, follower_tip_cantilever,
                                   heavy_cantilever)
 from largerot.solvers.problem import Problem
 
@@ -65,19 +64,7 @@ def test_taut_cable_with_one_point_load():
     s.load(c, fy=P)
     path = lr.trace(s, lr.by_load(0.25), target_load_factor=1.0, tol=1e-12)
     assert path.status == "target"
-    EA = sec.EA
-    l01, l02 = 12.0 * EA / (EA + T0), 18.0 * EA / (EA + T0)
-
-    def joint(p):
-        x, y = p
-        f = np.zeros(2)
-        for (ex, l0) in ((0.0, l01), (30.0, l02)):
-            d = np.array([ex - x, -y])
-            l = np.hypot(*d)
-            f += EA * (l - l0) / l0 * d / l
-        return f + [0.0, P]
-
-    x, y = fsolve(joint, [12.0, -0.5], xtol=1e-14)
+    x, y = cable_joint(12.0, 18.0, sec.EA, T0, P)
     # exact up to Newton's residual tolerance 1e-8, which the small horizontal
     # movement feels most (relative 1e-7)
     assert path.displacement(c, "ux")[-1] == pytest.approx(x - 12.0, rel=1e-7)

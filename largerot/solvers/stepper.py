@@ -250,10 +250,7 @@ class PathStepper:
         rec, a = self._new_point(res), self._points[-1]
         # no path to follow from the slack state: events between are interpolated
         rec.events = tuple(self._locate_events(a, rec, search=False)[0])
-        self._fact = res.factorization
-        self._points.append(rec)
-        a.history = None
-        self.n_steps += 1
+        self._commit(rec, res.factorization)
 
     def _rest_tolerance(self, K, scale: float) -> float:
         """Largest residual at rest that is not an imbalance.
@@ -463,13 +460,18 @@ class PathStepper:
         if switch is not None:
             rec, fact = switch
             rec.critical = critical
-        self._fact = fact
-        self._points.append(rec)                     # the commit
-        a.history = None                             # only the last point keeps it
-        self.n_steps += 1
+        self._commit(rec, fact)
         self._adapt(res)
         if terminal is not None and self.status == "running":
             self.status, self.message = "event", f"{STATUS['event'].message} ({terminal})"
+
+    def _commit(self, rec: PointRecord, fact) -> None:
+        """Make ``rec`` the last point: one append commits it (interrupt-safe)."""
+        last = self._points[-1]
+        self._fact = fact
+        self._points.append(rec)                     # the commit
+        last.history = None                          # only the last point keeps it
+        self.n_steps += 1
 
     def _critical_point(self, a: PointRecord, b: PointRecord):
         """Locate the critical point between the last point and a new one (an event)."""
