@@ -264,12 +264,6 @@ class Assembly:
                     out[g.table][name][g.rows] = v
         return out
 
-    def element_arrays(self, u: np.ndarray, states: list | None = None) -> dict:
-        """Unassembled element forces and tangents per group name (for tests)."""
-        states = self.initial_states() if states is None else states
-        return {g.name: (g.dofmap, *g.evaluate(u[g.dofmap], st, True)[:2])
-                for g, st in zip(self.groups, states)}
-
     def stress_stiffness(self, u: np.ndarray) -> sp.csc_matrix:
         """Geometric stiffness Kσ of the linear state ``u`` (full vector), shape (n_free, n_free).
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from typing import NamedTuple
 
-__all__ = ["Status", "STATUS", "status_message", "ENDED"]
+__all__ = ["Status", "STATUS", "ENDED"]
 
 
 class Status(NamedTuple):
@@ -38,10 +38,3 @@ STATUS = {s.word: s for s in (
 #: Words of a trace that has ended (anything but "running").
 ENDED = tuple(w for w in STATUS if w != "running")
 
-
-def status_message(word: str) -> str:
-    """The message of a status word; a ValueError for an unknown one."""
-    try:
-        return STATUS[word].message
-    except KeyError:
-        raise ValueError(f"Unknown status {word!r}; one of {', '.join(STATUS)}.") from None

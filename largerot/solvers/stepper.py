@@ -34,7 +34,7 @@ from .newton import FLOOR_FACTOR, LoadConstraint, NewtonResult, newton, roundoff
 from .predictor import chord_consistent
 from .problem import Problem
 from .stability import count_negative
-from .status import STATUS
+from .status import ENDED, STATUS
 
 __all__ = ["PathStepper", "PointRecord", "checked_option"]
 
@@ -365,9 +365,8 @@ class PathStepper:
 
     def finish(self, status: str) -> None:
         """End the trace with one of the words of :data:`~largerot.solvers.status.STATUS`."""
-        if status not in STATUS or status == "running":
-            raise ValueError(f"`status` must be one of {', '.join(w for w in STATUS if w != 'running')}, "
-                             f"got {status!r}.")
+        if status not in ENDED:
+            raise ValueError(f"`status` must be one of {', '.join(ENDED)}, got {status!r}.")
         self.status = status
         self.message = STATUS[status].message
 
