@@ -16,6 +16,7 @@ import scipy.sparse as sp
 
 from .errors import ModelError
 from .groups import Group, build_groups, build_loads
+from .mesh_check import check_resolution
 from .model import DOFS
 from .snapshot import Model
 
@@ -64,6 +65,7 @@ class Assembly:
 
     def __init__(self, model: Model) -> None:
         self.model = model
+        check_resolution(model)
         self.xy = model.xy
         self.n_dof = model.n_dof
         self.groups: list[Group] = build_groups(model)
