@@ -245,7 +245,7 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
         The state reached with its evaluation (None if no step was taken), and the
         number of relaxation steps.
     """
-    W = sp.diags(problem.weights**2)
+    W = sp.diags(np.broadcast_to(getattr(problem, "weights", 1.0), u.shape) ** 2)
     diag = float(np.abs(K.diagonal()).max()) or 1.0
     sigma = RELAX_START * diag
     rn = float(np.linalg.norm(r))
