@@ -127,7 +127,8 @@ MAX_RELAXATIONS = 3
 RELAX_START = 1e-6
 #: Hand back to Newton once σ falls below this share of the largest diagonal entry.
 RELAX_END = 1e-10
-#: Relaxation steps of one relaxation at most (the portal's take 9–13).
+#: Relaxation steps of one call at most, all its relaxations together (the portal's
+#: take 9–13 each): a step that fails anyway is cut after this many extra evaluations.
 MAX_RELAX_STEPS = 50
 
 
@@ -230,7 +231,8 @@ def line_search(problem: Problem, u: np.ndarray, lam: float, du: np.ndarray, dla
     return best[1], best[2], n
 
 
-def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarray, K):
+def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarray, K,
+            max_steps: int = MAX_RELAX_STEPS):
     """Relax from (u, λ) by shifted corrections (module docstring).
 
     Parameters
@@ -238,6 +240,8 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
     u : ndarray, shape (n_free,)
     r, K : ndarray, shape (n_free,), and sparse matrix (n_free, n_free)
         Residual and tangent at (u, λ).
+    max_steps : int
+        Relaxation steps at most.
 
     Returns
     -------
@@ -251,7 +255,7 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
     rn = float(np.linalg.norm(r))
     ev = None
     n = 0
-    for n in range(1, MAX_RELAX_STEPS + 1):
+    for n in range(1, max_steps + 1):
         try:
             fact = Factorization((K + sigma * W).tocsc(), symmetric=problem.symmetric)
         except SingularTangent:
@@ -354,10 +358,11 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
                                 n_searches)
         if k == max_iterations:
             break
-        if (relaxations < MAX_RELAXATIONS and k - last_relaxed >= STALL
-                and ratio >= min(history[-STALL - 1:-1])):
+        if (relaxations < MAX_RELAXATIONS and n_relaxed < MAX_RELAX_STEPS
+                and k - last_relaxed >= STALL and ratio >= min(history[-STALL - 1:-1])):
             relaxations, last_relaxed = relaxations + 1, k
-            u, lam, ev, n = relaxed(problem, u, lam, constraint, r, K)
+            u, lam, ev, n = relaxed(problem, u, lam, constraint, r, K,
+                                    MAX_RELAX_STEPS - n_relaxed)
             n_relaxed += n
             log.debug("relaxed at iteration %d in %d steps", k, n)
             if ev is not None:
