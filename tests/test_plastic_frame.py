@@ -59,14 +59,35 @@ def test_sway_mechanism_load_of_a_fine_portal_by_displacement_control():
     assert 1.0 < ratio < 1.02
 
 
-@pytest.mark.xfail(strict=True, reason="Newton cycles between fibre loading and unloading "
-                   "states at a fully yielded hinge past the peak (item 10, open)")
 def test_gravity_portal_traced_past_its_peak_by_displacement_control():
     # Constant 300 kN on each corner: P-Δ makes the path descend after the peak.
-    # Measured: the trace fails at a sway of 0.63 m (H/Hp 0.54, past the peak of
-    # 0.905·Hp at 0.10 m): Newton's residual cycles with period 2 to 3 (e.g. relative
-    # 1.0e-8 → 4.2e-6 → 4.2e-7 → 1.0e-8) even at 1/1024 of the step.
+    # Before Newton's relaxation (solvers/newton.py) the trace failed at a sway of
+    # 0.63 m, fibres at a fully yielded hinge cycling between loading and unloading.
     s, sec, b = _portal(40, corner_load=300e3)
     path = lr.trace(s, lr.by_displacement(b, "ux", 0.01), max_steps=80)
     assert path.status == "max_steps", path.message
-    assert path.displacement(b, "ux")[-1] >= 0.79
+    ux, H = path.displacement(b, "ux"), path.load_factor * 1e3
+    assert ux[-1] >= 0.79
+    # Rigid-plastic sway mechanism with P-Δ (Horne, plastic theory of frames; from
+    # memory): work on the four column hinges turning by θ, the corners moving
+    # h·cos θ·dθ across and Δ·dθ down, gives H·h·cos θ = ΣMp,N − 2·P·Δ, Δ = h·sin θ.
+    # Mp,N = Mp − N²/(4·tw·fy) for an I-shape whose plastic neutral axis lies in the
+    # web (from memory); the columns carry N = P ∓ V, V = 2·Mp,N/L the beam's shear
+    # (beam end moments Mp,N at the column tops), solved by fixed-point iteration.
+    P, tw, fy = 300e3, 0.0071, 355e6
+    Mr = sec.Mp
+    for _ in range(20):
+        V = 2 * Mr / SPAN
+        Mr = 0.5 * (2 * sec.Mp - ((P + V) ** 2 + (P - V) ** 2) / (4 * tw * fy))
+    far = ux >= 0.4 - 1e-9
+    theta = np.arcsin(ux[far] / HEIGHT)
+    H_ref = (4 * Mr - 2 * P * ux[far]) / (HEIGHT * np.cos(theta))
+    # Slope dH/dΔ from 0.4 to 0.8 m: the P-Δ line's, measured within 0.9 %.
+    slope = np.polyfit(ux[far], H[far], 1)[0]
+    slope_ref = np.polyfit(ux[far], H_ref, 1)[0]
+    assert abs(slope / slope_ref - 1) < 0.02
+    # Level: above the line by the hinge spread over one element, +1.47 % of 4·Mp/h
+    # without gravity at 40 elements (test above); measured +2.0 % to +2.3 % of
+    # 4·Mp,N/h here over 0.4–0.8 m. Demanded from above, within 3 %.
+    offset = (H[far] - H_ref) / (4 * Mr / HEIGHT)
+    assert np.all(offset > 0.0) and np.all(offset < 0.03)

@@ -42,6 +42,25 @@ Convergence (both must hold):
   check, is at most ``tol_u`` of the step's increment (weighted norm), or of
   ``INCREMENT_FLOOR`` × the structure's size when the step hardly moves u.
 
+Relaxation when Newton cycles
+    When ``STALL`` iterations in a row bring the residual no lower than the best
+    before them, the iterates are cycling. Seen with perfectly plastic fibres (a
+    fixed-base portal past its peak under P-Δ): fibres at a hinge switch between
+    plastic loading and elastic unloading from one iterate to the next, and with
+    the loading ones at zero stiffness and compression in the column the tangent
+    turns indefinite (a negative eigenvalue of the constrained tangent, a Newton
+    correction up the energy, s(0) < 0), so the iterates circle a local snap of the
+    hinge zone instead of crossing it. Freezing the fibres' branches does not help
+    there: each frozen branch set converges, to a state where other fibres must switch
+    (measured). The corrector then relaxes: it solves (K + σ·W)·δu − F·δλ = r with
+    the same constraint, W the norm's weights, σ starting at ``RELAX_START`` times
+    K's largest diagonal entry, so the shifted matrix is definite and each move goes
+    down the energy, and σ follows the residual, σ ← σ·|r_k|/|r_k−1| (switched
+    evolution relaxation, as in :mod:`~largerot.solvers.equilibrium`), until
+    σ < ``RELAX_END`` times that entry; Newton then goes on from there. The shift
+    changes only the iteration matrix, never the residual, so the convergence test
+    and the converged point are Newton's own.
+
 A point whose corrections no longer change u (``STAGNATION`` relative to the
 increment) while its relative residual is below ``STAGNATION_RESIDUAL`` is also
 accepted: it has stopped moving, short of the tolerance.
@@ -52,6 +71,7 @@ import logging
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.sparse as sp
 
 from ..linalg import Factorization, SingularTangent
 from .problem import Problem
@@ -92,6 +112,24 @@ LS_TRIALS = 4
 LS_ETA_MIN = 0.1
 #: The line search stops once |s(η)| ≤ LS_SETTLE·|s(0)|.
 LS_SETTLE = 0.25
+
+
+#: Iterations in a row whose residual is no lower than the best of the ones before
+#: them, after which Newton relaxes (module docstring). The fibre cycles seen have
+#: period 2–3 (1.0e-8 → 4.2e-6 → 4.2e-7 → 1.0e-8), so 3 catches them early, while
+#: a residual that rises for an iteration or two before converging is left alone.
+STALL = 3
+#: Relaxations in one call at most.
+MAX_RELAXATIONS = 3
+#: First shift σ, as a share of K's largest diagonal entry: small next to the axial
+#: stiffness of a beam, large next to the negative eigenvalue of a fully yielded
+#: hinge zone (portal of 40 fibre elements a member: −8·10³ against 10¹⁰).
+RELAX_START = 1e-6
+#: Hand back to Newton once σ falls below this share of the largest diagonal entry.
+RELAX_END = 1e-10
+#: Relaxation steps of one call at most, all its relaxations together (the portal's
+#: take 9–13 each): a step that fails anyway is cut after this many extra evaluations.
+MAX_RELAX_STEPS = 50
 
 
 @dataclass
@@ -193,6 +231,55 @@ def line_search(problem: Problem, u: np.ndarray, lam: float, du: np.ndarray, dla
     return best[1], best[2], n
 
 
+def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarray, K,
+            max_steps: int = MAX_RELAX_STEPS):
+    """Relax from (u, λ) by shifted corrections (module docstring).
+
+    Parameters
+    ----------
+    u : ndarray, shape (n_free,)
+    r, K : ndarray, shape (n_free,), and sparse matrix (n_free, n_free)
+        Residual and tangent at (u, λ).
+    max_steps : int
+        Relaxation steps at most.
+
+    Returns
+    -------
+    (u, lam, (r, K, scale), n_steps)
+        The state reached with its evaluation (None if no step was taken), and the
+        number of relaxation steps.
+    """
+    W = sp.diags(np.broadcast_to(getattr(problem, "weights", 1.0), u.shape) ** 2)
+    diag = float(np.abs(K.diagonal()).max()) or 1.0
+    sigma = RELAX_START * diag
+    rn = float(np.linalg.norm(r))
+    ev = None
+    n = 0
+    for n in range(1, max_steps + 1):
+        try:
+            fact = Factorization((K + sigma * W).tocsc(), symmetric=problem.symmetric)
+        except SingularTangent:
+            sigma *= 10.0
+            continue
+        sol = fact.solve(np.column_stack([r, problem.F]))
+        dlam = constraint.delta_lam(sol[:, 0], sol[:, 1], u, lam)
+        if dlam is None or not np.isfinite(dlam):
+            break
+        du = sol[:, 0] + dlam * sol[:, 1]
+        trial = problem.residual(u + du, lam + dlam)
+        rn1 = float(np.linalg.norm(trial[0]))
+        if not np.isfinite(rn1):
+            sigma *= 10.0
+            continue
+        u, lam, ev = u + du, lam + dlam, trial
+        r, K = trial[0], trial[1]
+        sigma *= min(max(rn1 / rn, 0.1), 10.0)
+        rn = rn1
+        if sigma < RELAX_END * diag:
+            break
+    return u, lam, ev, n
+
+
 #: Each correction moves the beams' nodes with their chords kept whole to first order
 #: (``Problem.moved``, :mod:`largerot.solvers.predictor`), as the predictor does: a
 #: second-order change of the Newton step, so the convergence rate is kept, while a
@@ -219,7 +306,8 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
     tol, tol_u : float
         Residual and displacement tolerances (module docstring).
     max_iterations : int
-        Newton iterations at most (line-search trials not counted).
+        Newton iterations at most (line-search trials and relaxation steps not
+        counted; the result's ``iterations`` includes the relaxation steps).
 
     Returns
     -------
@@ -230,6 +318,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
     u = u.copy()
     history: list[float] = []
     n_searches = 0
+    n_relaxed, relaxations, last_relaxed = 0, 0, 0     # relaxation steps, relaxations
     r, K, scale = problem.residual(u, lam)
     for k in range(max_iterations + 1):
         norm_r = float(np.linalg.norm(r))
@@ -264,10 +353,21 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
                     and ratio > FLOOR_STALL * history[-2])
         if corr <= tol_u and (ratio <= tol or at_floor) or (
                 k > 0 and corr <= STAGNATION and ratio <= STAGNATION_RESIDUAL):
-            return NewtonResult(True, u, lam, k, np.array(history),
-                                f"Converged in {k} iterations.", fact, _rate(history), n_searches)
+            return NewtonResult(True, u, lam, k + n_relaxed, np.array(history),
+                                f"Converged in {k + n_relaxed} iterations.", fact, _rate(history),
+                                n_searches)
         if k == max_iterations:
             break
+        if (relaxations < MAX_RELAXATIONS and n_relaxed < MAX_RELAX_STEPS
+                and k - last_relaxed >= STALL and ratio >= min(history[-STALL - 1:-1])):
+            relaxations, last_relaxed = relaxations + 1, k
+            u, lam, ev, n = relaxed(problem, u, lam, constraint, r, K,
+                                    MAX_RELAX_STEPS - n_relaxed)
+            n_relaxed += n
+            log.debug("relaxed at iteration %d in %d steps", k, n)
+            if ev is not None:
+                r, K, scale = ev
+                continue
         if CHORD_CORRECTION and hasattr(problem, "moved"):
             du = problem.moved(u, du) - u
         trial = problem.residual(u + du, lam + dlam)
@@ -287,6 +387,6 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         u += eta * du
         lam += eta * dlam
         r, K, scale = trial
-    return NewtonResult(False, u, lam, max_iterations, np.array(history),
+    return NewtonResult(False, u, lam, max_iterations + n_relaxed, np.array(history),
                         f"No convergence in {max_iterations} iterations "
                         f"(relative residual {history[-1]:.2e}).", line_searches=n_searches)
