@@ -38,7 +38,7 @@ def beam_chains(model) -> tuple[np.ndarray, np.ndarray]:
     """Unbranched chains of beam elements.
 
     Two beam elements belong to one chain when they share a node that only they
-    connect and that has no restraint, spring or contact.
+    connect (no other beam, bar or cable) and that has no restraint, spring or contact.
 
     Returns
     -------
@@ -52,13 +52,13 @@ def beam_chains(model) -> tuple[np.ndarray, np.ndarray]:
     if n_el == 0:
         return np.zeros(0, int), np.zeros(0, int)
     n_nodes = model.n_nodes
-    degree = np.bincount(nodes.ravel(), minlength=n_nodes)
-    degree += np.bincount(np.asarray(model.bar_nodes, int).ravel(), minlength=n_nodes)
+    beams = np.bincount(nodes.ravel(), minlength=n_nodes)
+    bars = np.bincount(np.asarray(model.bar_nodes, int).ravel(), minlength=n_nodes)
     held = np.zeros(n_nodes, bool)
     for dofs in (model.fixed, model.spring_dofs):
         held[np.asarray(dofs, int) // 3] = True
     held[np.asarray(model.contact_nodes, int)] = True
-    inner = (degree == 2) & ~held
+    inner = (beams == 2) & (bars == 0) & ~held
     # each inner node joins the two beam elements at it
     ends = nodes.ravel()
     element = np.repeat(np.arange(n_el), 2)

@@ -61,3 +61,9 @@ def test_a_chain_beyond_the_limit_warns_naming_its_member(segments, warns):
     if warns:
         assert "member(s) 0" in str(found[0].message)
         assert f"{CHAIN_LIMIT + 1:,}" in str(found[0].message)
+
+
+def test_cables_at_a_node_end_the_chain():
+    # the mast's top joins its last beam element and two guys
+    s, _ = demo.guyed_mast(segments=12)
+    assert beam_chains(s.snapshot())[1].tolist() == [12]

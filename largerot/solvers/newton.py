@@ -44,7 +44,8 @@ Convergence (both must hold):
 
 Relaxation when Newton cycles
     When ``STALL`` iterations in a row bring the residual no lower than the best
-    before them, the iterates are cycling. Seen with perfectly plastic fibres (a
+    before them, and one of their corrections went up the energy (s(0) = δu·r < 0,
+    an indefinite tangent along it), the iterates are cycling about a local snap. Seen with perfectly plastic fibres (a
     fixed-base portal past its peak under P-Δ): fibres at a hinge switch between
     plastic loading and elastic unloading from one iterate to the next, and with
     the loading ones at zero stiffness and compression in the column the tangent
@@ -319,6 +320,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
     history: list[float] = []
     n_searches = 0
     n_relaxed, relaxations, last_relaxed = 0, 0, 0     # relaxation steps, relaxations
+    uphill = -max_iterations - 1          # last iteration whose correction went up the energy
     r, K, scale = problem.residual(u, lam)
     for k in range(max_iterations + 1):
         norm_r = float(np.linalg.norm(r))
@@ -359,7 +361,8 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         if k == max_iterations:
             break
         if (relaxations < MAX_RELAXATIONS and n_relaxed < MAX_RELAX_STEPS
-                and k - last_relaxed >= STALL and ratio >= min(history[-STALL - 1:-1])):
+                and k - last_relaxed >= STALL and k - uphill <= STALL
+                and ratio >= min(history[-STALL - 1:-1])):
             relaxations, last_relaxed = relaxations + 1, k
             u, lam, ev, n = relaxed(problem, u, lam, constraint, r, K,
                                     MAX_RELAX_STEPS - n_relaxed)
@@ -373,6 +376,8 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         trial = problem.residual(u + du, lam + dlam)
         eta = 1.0
         s0 = float(du @ r)
+        if s0 < 0.0:
+            uphill = k
         if s0 != 0.0 and np.isfinite(s0):
             s1 = float(du @ trial[0])
             n1 = float(np.linalg.norm(trial[0]))
