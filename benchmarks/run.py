@@ -157,14 +157,16 @@ def iteration_case(kind: str, n: int, repeat: int) -> dict:
         "csc_s": best(csc, repeat),
         "evaluate_s": best(lambda: A.evaluate(uf, states), repeat),
         "splu_library_options_s": best(lambda: spla.splu(K, **lib_opts), repeat),
-        "factorize_s": best(lambda: linalg.Factorization(K), repeat),
-        "pivots_s": best(lambda: linalg.Factorization(K).n_negative, repeat),
+        "factorize_s": best(lambda: linalg.factor(K), repeat),
+        "factorize_superlu_s": best(lambda: linalg.LUFactorization(K), repeat),
+        "pivots_s": best(lambda: linalg.factor(K).n_negative, repeat),
         "solve_s": best(lambda: fact.solve(rhs), repeat),
         "floor_s": best(floor, repeat),
         "floor_reused_ordering_s": best(floor_reused, repeat),
         "iteration_s": t_newton,
         "min_pivot_ratio": float(np.min(fact.pivot_ratio)),
         "n_factor_nnz": int(fact.lu.nnz),
+        "backend": linalg.factor(K).backend,
     }
     out["inertia_extra_s"] = out["pivots_s"] - out["factorize_s"]
     out["ratio"] = out["iteration_s"] / out["floor_s"]
@@ -249,7 +251,7 @@ def conditioning(sizes) -> list:
         A = Assembly.of(s)
         P = Problem(A)
         _, K0, _ = P.residual(np.zeros(P.n), 0.0)
-        F0 = linalg.Factorization(K0)
+        F0 = linalg.LUFactorization(K0)
         lam = 0.1
         u = lam * F0.solve(P.F)
         row = {"n_elements": n, "min_pivot_ratio_unloaded": float(F0.pivot_ratio.min()),
@@ -272,7 +274,7 @@ def conditioning(sizes) -> list:
         Am = Assembly.of(_pinned_pole(n))
         _, Km, _ = Problem(Am).residual(np.zeros(Am.n_free), 0.0)
         try:
-            Fm = linalg.Factorization(Km)
+            Fm = linalg.LUFactorization(Km)
             row["mechanism_min_pivot_ratio"] = float(Fm.pivot_ratio.min())
             row["mechanism_threshold"] = Fm.singular_threshold()
             row["mechanism_detected"] = bool(len(Fm.near_singular_dofs()))

@@ -1,18 +1,44 @@
-"""Sparse factorisation of the tangent, giving solves and the inertia from one LU.
+"""Sparse factorisation of the tangent: solves, inertia and singularity from one factor.
 
-For a symmetric tangent the LU is computed with diagonal pivoting in SuperLU's
-symmetric mode, so P·K·Pᵀ = L·D·Lᵀ in effect and, by Sylvester's law of inertia, the
-number of negative pivots (diagonal of U) is the number of negative eigenvalues of K
-(common practice, no source). One factorisation thus serves the Newton solve, the
-stability check and the mechanism check.
+Two back ends behind one :class:`Factorization` interface, chosen by the tangent's kind
+(:func:`factor`):
 
-Ordering reuse
+* **Symmetric tangents** (every path without follower loads) go through an LDLᵀ
+  factorisation without pivoting, QDLDL (the ``qdldl`` wheel). Its symbolic analysis
+  (AMD ordering, elimination tree, the pattern of L) depends only on the sparsity
+  pattern, which is fixed for a model, so it is done once per pattern and every later
+  tangent only refactors the numbers (``Solver.update``): 0.07–0.18 of a SuperLU
+  factorisation and solve on 1,000–100,000-element chains (``benchmarks/run.py``).
+  By Sylvester's law of inertia the number of negative entries of D is the number of
+  negative eigenvalues of K (common practice, no source): the stability check comes
+  with the factor.
+* **Non-symmetric tangents** (follower loads) and the **mechanism diagnosis**
+  (:func:`factorize`, whose singular-pivot threshold was calibrated on it) go through
+  SuperLU, in symmetric mode with diagonal pivoting when K is symmetric (then
+  P·K·Pᵀ = L·U with U's diagonal the D of an LDLᵀ), with its fill-reducing ordering
+  reused per pattern. SuperLU is also the fallback when ``qdldl`` is not installed
+  (``BACKEND``).
+
+Why QDLDL: a small wheel on PyPI for every common platform (no compiler, no system
+library), a numeric refactorisation that reuses the symbolic one, and D available for
+the inertia. Supernodal Cholesky packages need SuiteSparse built on the user's machine
+and a plain Cholesky fails on the indefinite tangents past a limit point. Unpivoted
+LDLᵀ is what the symmetric SuperLU path did already (diagonal pivot threshold 0).
+
+Ordering reuse (SuperLU)
     The tangent's sparsity pattern is fixed for a structure, so its fill-reducing
     ordering (minimum degree on the structure of Kᵀ + K, SuperLU's ``MMD_AT_PLUS_A``)
     is the same at every iteration. The first factorisation of a pattern records the
     ordering SuperLU chose; later matrices of that pattern are permuted by one gather
     of their data (:class:`Ordering`) and factorised with ``permc_spec="NATURAL"``,
     which skips the ordering step (20–60 % of a factorisation of a beam model).
+
+Ownership (QDLDL)
+    One ``qdldl.Solver`` per pattern holds the numbers of the last matrix it
+    factorised. A :class:`LDLFactorization` remembers which one it is; asked to solve
+    after another matrix of its pattern was factorised, it refactors its own numbers
+    first (rare: the stepper keeps the factor of its last point while the next
+    Newton runs).
 """
 from __future__ import annotations
 
@@ -20,8 +46,13 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["Factorization", "factorize", "SingularTangent", "Ordering", "scaled_norm",
-           "SINGULAR_PIVOT"]
+try:                                   # optional at import: SuperLU stands in without it
+    import qdldl
+except ImportError:                    # pragma: no cover - exercised by monkeypatching BACKEND
+    qdldl = None
+
+__all__ = ["Factorization", "LDLFactorization", "LUFactorization", "factor", "factorize",
+           "SingularTangent", "Ordering", "scaled_norm", "SINGULAR_PIVOT", "BACKEND"]
 
 #: A pivot below ``SINGULAR_PIVOT · eps · ‖K̃‖₁`` of its matrix diagonal is taken as
 #: exactly singular, K̃ = D^-½·K·D^-½ being K scaled to a unit diagonal (so the test
@@ -32,9 +63,12 @@ __all__ = ["Factorization", "factorize", "SingularTangent", "Ordering", "scaled_
 #: elements have round-off pivots up to 200 eps·‖K̃‖₁: no pivot threshold separates
 #: those from genuine ones; benchmarks/RESULTS.md, conditioning.)
 SINGULAR_PIVOT = 16.0
-#: Sparsity patterns whose ordering is kept (the structures a session alternates
-#: between); each costs about three integer arrays the size of the pattern.
+#: Sparsity patterns whose ordering (SuperLU) or symbolic factor (QDLDL) is kept: the
+#: structures a session alternates between; each costs a few arrays the size of the
+#: pattern (QDLDL: also the factor).
 N_ORDERINGS = 4
+#: Symmetric tangents: ``"ldl"`` (QDLDL when installed) or ``"superlu"``.
+BACKEND = "ldl" if qdldl is not None else "superlu"
 
 _EPS = np.finfo(float).eps
 _SUPERLU_ORDERING = "MMD_AT_PLUS_A"
@@ -46,6 +80,13 @@ class SingularTangent(ArithmeticError):
     def __init__(self, message: str, dofs: np.ndarray | None = None) -> None:
         super().__init__(message)
         self.dofs = dofs
+
+
+def _same_pattern(K, indptr: np.ndarray, indices: np.ndarray) -> bool:
+    if K.indices is indices and K.indptr is indptr:      # the assembly's own arrays
+        return True
+    return (len(K.indices) == len(indices) and np.array_equal(K.indptr, indptr)
+            and np.array_equal(K.indices, indices))
 
 
 class Ordering:
@@ -86,8 +127,7 @@ class Ordering:
         """True when ``K`` has exactly this pattern."""
         if K.shape != (self.n, self.n) or K.nnz != len(self.src):
             return False
-        return (np.array_equal(K.indptr, self.indptr_ref)
-                and np.array_equal(K.indices, self.indices_ref))
+        return _same_pattern(K, self.indptr_ref, self.indices_ref)
 
     def permuted(self, K: sp.csc_matrix) -> sp.csc_matrix:
         """P·K·Pᵀ for a matrix of this pattern: entry (order[i], order[j]) of K at (i, j)."""
@@ -126,7 +166,7 @@ def scaled_norm(K: sp.spmatrix) -> float:
 
 
 class Factorization:
-    """An LU factorisation of a sparse tangent.
+    """A factorisation of a sparse tangent (base of the two back ends).
 
     The pivots and what derives from them are computed when first asked for (a
     Newton iteration that only solves never pays for them).
@@ -137,8 +177,10 @@ class Factorization:
         Negative pivots; equals the number of negative eigenvalues when
         ``symmetric`` (otherwise the count is of pivots only and indicative).
     symmetric : bool
+    backend : str
+        ``"ldl"`` (QDLDL) or ``"superlu"``.
     pivots : ndarray, shape (n,)
-        Diagonal of U, in elimination order.
+        D of the LDLᵀ (diagonal of U for SuperLU), in elimination order.
     pivot_dof : ndarray, shape (n,)
         The DOF (index into K) each pivot eliminates.
     pivot_ratio : ndarray, shape (n,)
@@ -146,34 +188,26 @@ class Factorization:
         singular direction.
     """
 
-    def __init__(self, K: sp.csc_matrix, symmetric: bool = True) -> None:
+    backend = ""
+
+    def __init__(self, K: sp.csc_matrix, symmetric: bool) -> None:
         self.symmetric = symmetric
         self.n = K.shape[0]
         self.K = K            # kept for eigenvalue checks (stability, critical points)
-        opts = dict(SymmetricMode=True) if symmetric else {}
-        thresh = 0.0 if symmetric else 1.0
-        known = _known_ordering(K) if self.n else None
-        self.order = known.order if known is not None else None
-        try:
-            if known is None:
-                self.lu = spla.splu(K, permc_spec=_SUPERLU_ORDERING, diag_pivot_thresh=thresh,
-                                    options=opts)
-                if self.n:
-                    _remember(K, self.lu.perm_c)
-            else:
-                self.lu = spla.splu(known.permuted(K), permc_spec="NATURAL",
-                                    diag_pivot_thresh=thresh, options=opts)
-        except RuntimeError as exc:  # "Factor is exactly singular"
-            raise SingularTangent(str(exc)) from None
         self._pivots = None
 
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        """Solve K·x = b for one right-hand side (n,) or several (n, m)."""
+        raise NotImplementedError
+
+    def _pivots_in_order(self) -> tuple[np.ndarray, np.ndarray]:
+        """(pivots, DOF each eliminates), in elimination order."""
+        raise NotImplementedError
+
     def _compute_pivots(self) -> None:
-        pivots = self.lu.U.diagonal()
+        pivots, order = self._pivots_in_order()
         if not np.all(np.isfinite(pivots)):
             raise SingularTangent("The factorisation produced non-finite pivots.")
-        inner = np.empty_like(self.lu.perm_c)
-        inner[self.lu.perm_c] = np.arange(self.n)          # pivot k eliminates row inner[k]
-        order = inner if self.order is None else self.order[inner]
         diag = np.abs(self.K.diagonal())
         self._pivots = pivots
         self._pivot_dof = order
@@ -206,16 +240,7 @@ class Factorization:
 
         Only then is P·K·Pᵀ = L·D·Lᵀ and ``n_negative`` the inertia of a symmetric K.
         """
-        return bool(np.array_equal(self.lu.perm_r, self.lu.perm_c))
-
-    def solve(self, b: np.ndarray) -> np.ndarray:
-        """Solve K·x = b for one right-hand side (n,) or several (n, m)."""
-        b = np.asarray(b, dtype=float)
-        if self.order is None:
-            return self.lu.solve(b)
-        x = np.empty_like(b)
-        x[self.order] = self.lu.solve(b[self.order])
-        return x
+        return True
 
     def singular_threshold(self) -> float:
         """The pivot ratio below which a pivot counts as exactly singular."""
@@ -228,9 +253,154 @@ class Factorization:
         return self.pivot_dof[self.pivot_ratio < tol]
 
 
+class LUFactorization(Factorization):
+    """SuperLU: symmetric mode with diagonal pivoting for a symmetric K, partial
+    pivoting otherwise; the fill-reducing ordering reused per pattern."""
+
+    backend = "superlu"
+
+    def __init__(self, K: sp.csc_matrix, symmetric: bool = True) -> None:
+        super().__init__(K, symmetric)
+        opts = dict(SymmetricMode=True) if symmetric else {}
+        thresh = 0.0 if symmetric else 1.0
+        known = _known_ordering(K) if self.n else None
+        self.order = known.order if known is not None else None
+        try:
+            if known is None:
+                self.lu = spla.splu(K, permc_spec=_SUPERLU_ORDERING, diag_pivot_thresh=thresh,
+                                    options=opts)
+                if self.n:
+                    _remember(K, self.lu.perm_c)
+            else:
+                self.lu = spla.splu(known.permuted(K), permc_spec="NATURAL",
+                                    diag_pivot_thresh=thresh, options=opts)
+        except RuntimeError as exc:  # "Factor is exactly singular"
+            raise SingularTangent(str(exc)) from None
+
+    def _pivots_in_order(self):
+        inner = np.empty_like(self.lu.perm_c)
+        inner[self.lu.perm_c] = np.arange(self.n)          # pivot k eliminates row inner[k]
+        order = inner if self.order is None else self.order[inner]
+        return self.lu.U.diagonal(), order
+
+    @property
+    def diagonal_pivoting(self) -> bool:
+        return bool(np.array_equal(self.lu.perm_r, self.lu.perm_c))
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        b = np.asarray(b, dtype=float)
+        if self.order is None:
+            return self.lu.solve(b)
+        x = np.empty_like(b)
+        x[self.order] = self.lu.solve(b[self.order])
+        return x
+
+
+class _Symbolic:
+    """One sparsity pattern's QDLDL solver and the gather of K's upper triangle."""
+
+    def __init__(self, K: sp.csc_matrix) -> None:
+        self.indptr_ref, self.indices_ref = K.indptr, K.indices
+        n = K.shape[0]
+        cols = np.repeat(np.arange(n), np.diff(K.indptr))
+        self.upper = np.flatnonzero(K.indices <= cols)       # entries of triu(K), in order
+        self.indices = K.indices[self.upper].astype(np.int32)
+        self.indptr = np.concatenate([[0], np.cumsum(np.bincount(cols[self.upper], minlength=n))]
+                                     ).astype(np.int32)
+        self.n = n
+        self.solver = None
+        self.owner = None                  # the factorisation whose numbers it holds
+
+    def matches(self, K) -> bool:
+        return K.shape == (self.n, self.n) and _same_pattern(K, self.indptr_ref, self.indices_ref)
+
+    def upper_triangle(self, K) -> sp.csc_matrix:
+        Ku = sp.csc_matrix((self.n, self.n))           # no validation of trusted arrays
+        Ku.data, Ku.indices, Ku.indptr = K.data[self.upper], self.indices, self.indptr
+        return Ku
+
+    def factor(self, Ku, owner) -> None:
+        try:
+            if self.solver is None:
+                self.solver = qdldl.Solver(Ku, upper=True)
+            else:
+                self.solver.update(Ku, upper=True)
+        except (ValueError, RuntimeError) as exc:        # a zero pivot
+            self.owner = None
+            raise SingularTangent(f"The LDLᵀ factorisation failed: {exc}") from None
+        self.owner = owner
+
+
+_symbolics: list[_Symbolic] = []
+
+
+def _symbolic(K) -> _Symbolic:
+    for i, s in enumerate(_symbolics):
+        if s.matches(K):
+            if i:
+                _symbolics.insert(0, _symbolics.pop(i))
+            return s
+    s = _Symbolic(K)
+    _symbolics.insert(0, s)
+    del _symbolics[N_ORDERINGS:]
+    return s
+
+
+class LDLFactorization(Factorization):
+    """QDLDL: K = P·(I + L)·D·(I + L)ᵀ·Pᵀ, no pivoting; the symbolic factor reused per
+    pattern, only the numbers refactored (module docstring)."""
+
+    backend = "ldl"
+
+    def __init__(self, K: sp.csc_matrix) -> None:
+        super().__init__(K, True)
+        if K.format != "csc" or not K.has_sorted_indices:
+            K = sp.csc_matrix(K)
+            K.sum_duplicates()
+            K.sort_indices()
+            self.K = K
+        self._symbolic = _symbolic(K)
+        self._Ku = self._symbolic.upper_triangle(K)
+        self._symbolic.factor(self._Ku, self)
+
+    def _solver(self):
+        s = self._symbolic
+        if s.owner is not self:                       # another matrix was factorised since
+            s.factor(self._Ku, self)
+        return s.solver
+
+    def _pivots_in_order(self):
+        _, d, perm = self._solver().factors()
+        return np.asarray(d), np.asarray(perm, dtype=np.int64)
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        b = np.asarray(b, dtype=float)
+        solver = self._solver()
+        if b.ndim == 1:
+            return solver.solve(b)
+        return np.column_stack([solver.solve(np.ascontiguousarray(col)) for col in b.T])
+
+    def __getstate__(self):
+        raise TypeError("A factorisation holds a native solver and does not pickle; "
+                        "refactorise K after loading.")
+
+
+def factor(K: sp.csc_matrix, symmetric: bool = True) -> Factorization:
+    """Factorise a tangent with the back end for its kind (module docstring).
+
+    Raises :class:`SingularTangent` only when the factorisation itself breaks down
+    (an exactly zero pivot); use :func:`factorize` to reject near-singular tangents.
+    """
+    if symmetric and BACKEND == "ldl" and qdldl is not None and K.shape[0]:
+        return LDLFactorization(K)
+    return LUFactorization(K, symmetric)
+
+
 def factorize(K: sp.csc_matrix, symmetric: bool = True) -> Factorization:
-    """Factorise a tangent; raise :class:`SingularTangent` if it is singular."""
-    F = Factorization(K, symmetric)
+    """Factorise a tangent for the mechanism diagnosis (SuperLU, whose pivots the
+    singular threshold was calibrated on); raise :class:`SingularTangent` if it is
+    singular."""
+    F = LUFactorization(K, symmetric)
     if F.n:
         dofs = F.near_singular_dofs()
         if len(dofs):

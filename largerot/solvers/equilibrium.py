@@ -16,7 +16,7 @@ import logging
 import numpy as np
 import scipy.sparse as sp
 
-from ..linalg import Factorization, SingularTangent
+from ..linalg import SingularTangent, factor
 from .newton import LoadConstraint, NewtonResult, newton
 
 __all__ = ["settle"]
@@ -49,7 +49,7 @@ def settle(problem, u: np.ndarray, lam: float, tol: float, tol_u: float,
     mu = 1.0
     for k in range(MAX_RELAXATION):
         try:
-            fact = Factorization((K + mu * shift * W).tocsc(), symmetric=problem.symmetric)
+            fact = factor((K + mu * shift * W).tocsc(), symmetric=problem.symmetric)
         except SingularTangent:
             mu *= 10.0
             continue

@@ -24,7 +24,7 @@ import logging
 
 import numpy as np
 
-from ..linalg import Factorization, SingularTangent
+from ..linalg import SingularTangent, factor
 from ..results import Event
 from .constraints import Metric, QuadraticConstraint
 from .critical import locate
@@ -173,7 +173,7 @@ class LoadStepper(PathStepper):
         for _ in range(LIMIT_SEARCH_STEPS):
             _, K, _ = prob.residual(u, lam)
             try:
-                v = Factorization(K, symmetric=prob.symmetric).solve(prob.F)
+                v = factor(K, symmetric=prob.symmetric).solve(prob.F)
             except SingularTangent:
                 return None, False
             norm = metric.norm(v, 1.0)

@@ -74,7 +74,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from ..linalg import Factorization, SingularTangent
+from ..linalg import Factorization, SingularTangent, factor
 from .problem import Problem
 
 __all__ = ["NewtonResult", "newton", "LoadConstraint", "DisplacementConstraint"]
@@ -258,7 +258,7 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
     n = 0
     for n in range(1, max_steps + 1):
         try:
-            fact = Factorization((K + sigma * W).tocsc(), symmetric=problem.symmetric)
+            fact = factor((K + sigma * W).tocsc(), symmetric=problem.symmetric)
         except SingularTangent:
             sigma *= 10.0
             continue
@@ -332,7 +332,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         try:
             # no near-singularity test here: the tangent is nearly singular at every
             # limit point and bifurcation, and the path must go through them
-            fact = Factorization(K, symmetric=problem.symmetric)
+            fact = factor(K, symmetric=problem.symmetric)
         except SingularTangent:
             return NewtonResult(False, u, lam, k, np.array(history),
                                 "The tangent is singular at a trial point.", line_searches=n_searches)

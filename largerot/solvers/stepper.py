@@ -24,7 +24,7 @@ import numpy as np
 
 from ..assembly import dof_label
 from ..errors import ModelError
-from ..linalg import SingularTangent, factorize
+from ..linalg import SingularTangent, factor, factorize
 from ..results import CriticalPoint, EquilibriumPath, Event, Point
 from ..snapshot import Model
 from .critical import Bracket, locate
@@ -546,7 +546,9 @@ class PathStepper:
         if self._fact is None:
             p = self.problem.with_states(self.history)
             _, K, _ = p.residual(self.u, self.lam)
-            self._fact = factorize(K, symmetric=p.symmetric)
+            # the back end Newton uses, so a resumed (unpickled) stepper goes on bit
+            # for bit like the original
+            self._fact = factor(K, symmetric=p.symmetric)
             self.n_factorizations += 1
             if self.assembly.has_followers:         # F of the follower loads at u
                 self.problem.F, self.problem.F_const = p.F, p.F_const

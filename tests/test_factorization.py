@@ -1,0 +1,120 @@
+"""The factorisation layer: LDLᵀ (QDLDL) against SuperLU and dense eigenvalues.
+
+References outside the project: scipy's dense symmetric eigensolver
+(``scipy.linalg.eigvalsh``) for the inertia, and the residual of the solve itself for
+the backward error (common practice, no source).
+"""
+import numpy as np
+import pytest
+import scipy.linalg as sl
+import scipy.sparse as sp
+
+import largerot as lr
+from largerot import examples, linalg
+from largerot.assembly import Assembly
+from largerot.solvers.problem import Problem
+
+pytestmark = pytest.mark.skipif(linalg.qdldl is None, reason="qdldl not installed")
+
+
+def _portal_tangent():
+    """A loaded 3 × 40-element portal frame's tangent and a load vector."""
+    s = lr.Structure()
+    sec = lr.Section(E=210e9, A=5e-3, I=8e-5)
+    a, b, c, d = s.node(0, 0), s.node(0, 4), s.node(6, 4), s.node(6, 0)
+    for p, q in ((a, b), (b, c), (c, d)):
+        s.beam(p, q, sec, segments=40)
+    s.fix(a)
+    s.fix(d)
+    s.load(b, fx=50e3, fy=-200e3)
+    s.load(c, fy=-200e3)
+    P = Problem(Assembly.of(s))
+    _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+    u = linalg.factor(K0).solve(P.F)
+    _, K, _ = P.residual(u, 1.0)
+    return K, P.F
+
+
+def test_ldl_solves_like_superlu_with_a_backward_error_at_round_off():
+    K, F = _portal_tangent()
+    b = np.column_stack([F, np.random.default_rng(1).standard_normal(len(F))])
+    ldl, lu = linalg.factor(K), linalg.LUFactorization(K)
+    assert ldl.backend == "ldl" and lu.backend == "superlu"
+    x, y = ldl.solve(b), lu.solve(b)
+    norm_K = sp.linalg.norm(K, 1)
+    for j in range(2):
+        # normwise backward error ‖b − K·x‖ / (‖K‖·‖x‖ + ‖b‖) (Rigal & Gaches 1967)
+        eta = np.linalg.norm(b[:, j] - K @ x[:, j], 1) / (norm_K * np.linalg.norm(x[:, j], 1)
+                                                          + np.linalg.norm(b[:, j], 1))
+        assert eta < 1e-12, eta                      # measured 1.8e-17, 2.0e-17
+        # the two factors differ by rounding times the condition number: 7e-11 measured
+        assert np.linalg.norm(x[:, j] - y[:, j]) <= 1e-8 * np.linalg.norm(y[:, j])
+    np.testing.assert_array_equal(ldl.solve(b[:, 0]), x[:, 0])   # one column as several
+
+
+def _inertia(K) -> int:
+    return int(np.count_nonzero(sl.eigvalsh(K.toarray()) < 0.0))
+
+
+def test_inertia_past_a_limit_point_equals_the_dense_eigenvalue_count():
+    # the shallow arch traced by arc length through its limit point and onto the
+    # unstable branch: at every point the negative entries of D, SuperLU's negative
+    # pivots and the negative eigenvalues of the dense tangent agree
+    sc = examples.shallow_arch(segments=16)
+    path = lr.trace(sc.structure, lr.by_arc_length(), max_steps=40)
+    A = Assembly.of(path.model)
+    P = Problem(A)
+    counts = []
+    for i in range(len(path)):
+        _, K, _ = P.residual(path.u[i][A.free], path.load_factor[i])
+        n = _inertia(K)
+        assert linalg.factor(K).n_negative == n
+        assert linalg.LUFactorization(K).n_negative == n
+        counts.append(n)
+    assert max(counts) >= 1                          # the path did pass the limit point
+
+
+def test_inertia_past_two_bifurcations_of_a_straight_column():
+    # a straight clamped-free column under an axial load P: the trivial path's tangent
+    # has one negative eigenvalue for π²EI/4L² < P < 9π²EI/4L² and two above it
+    # (Timoshenko & Gere 1961, §2.1); the discrete 20-element column within 0.1 %
+    s = lr.Structure()
+    sec = lr.Section(E=1.0, A=1e3, I=1.0)
+    base, top = s.node(0, 0), s.node(0, 1)
+    s.beam(base, top, sec, segments=20)
+    s.fix(base)
+    s.load(top, fy=-1.0)
+    P = Problem(Assembly.of(s))
+    pcr = np.pi**2 / 4
+    for lam, expected in ((0.5 * pcr, 0), (1.5 * pcr, 1), (5 * pcr, 1), (12 * pcr, 2)):
+        _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+        u = lam * linalg.factor(K0).solve(P.F)          # straight: axial shortening only
+        _, K, _ = P.residual(u, lam)
+        assert _inertia(K) == expected
+        assert linalg.factor(K).n_negative == expected
+        assert linalg.LUFactorization(K).n_negative == expected
+
+
+def test_interleaved_factorisations_of_one_pattern_keep_their_own_numbers():
+    K, F = _portal_tangent()
+    K2 = (K + sp.diags(0.5 * K.diagonal())).tocsc()          # same pattern, other numbers
+    f1 = linalg.factor(K)
+    f2 = linalg.factor(K2)
+    assert f1._symbolic is f2._symbolic
+    x1 = f1.solve(F)                                  # refactors K's numbers first
+    x2 = f2.solve(F)
+    np.testing.assert_allclose(K @ x1, F, rtol=0, atol=1e-6 * np.abs(F).max())
+    np.testing.assert_allclose(K2 @ x2, F, rtol=0, atol=1e-6 * np.abs(F).max())
+
+
+def test_superlu_stands_in_without_qdldl_and_for_non_symmetric_tangents(monkeypatch):
+    K, F = _portal_tangent()
+    assert linalg.factor(K, symmetric=False).backend == "superlu"
+    monkeypatch.setattr(linalg, "qdldl", None)
+    assert linalg.factor(K).backend == "superlu"
+    # a whole trace with the stand-in finds the same limit point
+    sc = examples.shallow_arch(segments=16)
+    lam_lu = lr.trace(sc.structure, lr.by_arc_length(), max_steps=40).critical_points[0].load_factor
+    monkeypatch.undo()
+    lam_ldl = lr.trace(sc.structure, lr.by_arc_length(), max_steps=40).critical_points[0].load_factor
+    assert lam_lu == pytest.approx(lam_ldl, rel=1e-8)
