@@ -9,6 +9,7 @@ only scatters numbers with one ``bincount``.
 """
 from __future__ import annotations
 
+import copy
 from dataclasses import dataclass
 
 import numpy as np
@@ -73,6 +74,11 @@ class Assembly:
         self.length_scale = model.length_scale
         self._classify_dofs()
         self._build_pattern()
+
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state.pop("_chord_fit", None)         # a native factorisation, rebuilt on use
+        return state
 
     # -- set-up -----------------------------------------------------------------
     def _classify_dofs(self) -> None:
@@ -162,7 +168,16 @@ class Assembly:
         return F_ref, F_const
 
     def _matrix(self, data: np.ndarray) -> sp.csc_matrix:
-        return sp.csc_matrix((data[:-1], self.indices, self.indptr), shape=(self.n_free, self.n_free))
+        # a shallow copy of one validated matrix of the pattern, given new numbers: every
+        # tangent shares the pattern's index arrays (never modified in place), and scipy's
+        # validation (5× the cost of the copy on small models) is paid once
+        template = self.__dict__.get("_template")
+        if template is None:
+            template = self._template = sp.csc_matrix(
+                (np.zeros(self.nnz), self.indices, self.indptr), shape=(self.n_free, self.n_free))
+        K = copy.copy(template)
+        K.data = data[:-1]
+        return K
 
     def evaluate(self, u: np.ndarray, states: list, tangent: bool = True, lam: float | None = None,
                  const_factor: float = 1.0) -> Evaluation:

@@ -39,7 +39,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["chord_consistent"]
+__all__ = ["chord_consistent", "chord_fit", "ChordFit"]
 
 log = logging.getLogger(__name__)
 
@@ -49,6 +49,59 @@ log = logging.getLogger(__name__)
 #: there by 1e-4 to 1e-2 of the misfit (itself of second order), while a beam no
 #: support holds keeps the predictor's rigid motion instead of a singular system.
 ANCHOR = 1e-12
+
+
+class ChordFit:
+    """The constant part of the chord fit of one assembly: G, the weights and the
+    factorised normal matrix GᵀWG + εI (the chords' end DOFs and stiffnesses do not
+    change along a path, so this is built once; module docstring).
+
+    Attributes
+    ----------
+    dm : ndarray of int, shape (n, 4)
+        Global DOFs ux, uy of each chord's first end, then of its second.
+    dX : ndarray, shape (n, 2)
+        Undeformed chord vectors.
+    used : ndarray of int, shape (m,)
+        Free-DOF indices of the fitted translations.
+    """
+
+    def __init__(self, assembly) -> None:
+        tables = [g.chords for g in assembly.groups]
+        tables = [t for t in tables if t is not None and len(t[0])]
+        self.empty = not tables
+        if self.empty:
+            return
+        self.dm = np.concatenate([t[0] for t in tables])        # (n, 4)
+        self.dX = np.concatenate([t[1] for t in tables])        # (n, 2)
+        k = np.concatenate([t[2] for t in tables])              # (n,)
+        n = len(k)
+        fi = assembly.free_index
+        rows = np.tile(np.arange(2 * n), 2)
+        cols = np.concatenate([fi[self.dm[:, 2:4]].ravel(), fi[self.dm[:, 0:2]].ravel()])
+        vals = np.repeat([1.0, -1.0], 2 * n)
+        held = cols < 0                                        # a supported end stays put
+        self.used, cols = np.unique(cols[~held], return_inverse=True)
+        G = sp.csc_matrix((vals[~held], (rows[~held], cols)), shape=(2 * n, len(self.used)))
+        self.w = np.repeat(k, 2)
+        self.GtW = (G.T @ sp.diags(self.w)).tocsr()
+        A = (self.GtW @ G + sp.identity(len(self.used)) * (ANCHOR * float(k.mean()))).tocsc()
+        try:
+            self.lu = spla.splu(A)
+        except RuntimeError as exc:                            # singular: no fit
+            log.debug("chord fit unavailable: %s", exc)
+            self.lu = None
+
+    def __getstate__(self) -> dict:
+        raise TypeError("ChordFit holds a native factorisation; rebuild it from the assembly.")
+
+
+def chord_fit(assembly) -> ChordFit:
+    """The assembly's :class:`ChordFit`, built on first use and kept with it."""
+    fit = assembly.__dict__.get("_chord_fit")
+    if fit is None:
+        fit = assembly.__dict__["_chord_fit"] = ChordFit(assembly)
+    return fit
 
 
 def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
@@ -70,13 +123,10 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
         the first-order length and direction (module docstring); ``u1`` itself
         when there are no beams or the fit fails.
     """
-    tables = [g.chords for g in assembly.groups]
-    tables = [t for t in tables if t is not None and len(t[0])]
-    if not tables:
+    fit = chord_fit(assembly)
+    if fit.empty or fit.lu is None:
         return u1
-    dm = np.concatenate([t[0] for t in tables])            # (n, 4): ux, uy of end 1, of end 2
-    dX = np.concatenate([t[1] for t in tables])            # (n, 2)
-    k = np.concatenate([t[2] for t in tables])             # (n,)
+    dm, dX = fit.dm, fit.dX
     U0, U1 = assembly.expand(u0), assembly.expand(u1)
     x0 = dX + U0[dm[:, 2:4]] - U0[dm[:, 0:2]]
     x1 = dX + U1[dm[:, 2:4]] - U1[dm[:, 0:2]]
@@ -84,27 +134,14 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
     d = x1 - x0
     stretch = 1.0 + np.einsum("ei,ei->e", x0, d) / l0sq    # (l0 + Δl)/l0
     phi = (x0[:, 0] * d[:, 1] - x0[:, 1] * d[:, 0]) / l0sq  # Δφ
-    log.debug("chord fit: largest turn %.3g rad", float(np.abs(phi).max()))
+    if log.isEnabledFor(logging.DEBUG):
+        log.debug("chord fit: largest turn %.3g rad", float(np.abs(phi).max()))
     c, s = stretch * np.cos(phi), stretch * np.sin(phi)
     target = np.stack([c * x0[:, 0] - s * x0[:, 1], s * x0[:, 0] + c * x0[:, 1]], axis=1)
     misfit = (target - x1).ravel()                         # (2n,): chord x, y per element
-    n = len(k)
-    fi = assembly.free_index
-    rows = np.tile(np.arange(2 * n), 2)
-    cols = np.concatenate([fi[dm[:, 2:4]].ravel(), fi[dm[:, 0:2]].ravel()])
-    vals = np.repeat([1.0, -1.0], 2 * n)
-    held = cols < 0                                        # a supported end stays put
-    used, cols = np.unique(cols[~held], return_inverse=True)
-    G = sp.csc_matrix((vals[~held], (rows[~held], cols)), shape=(2 * n, len(used)))
-    w = np.repeat(k, 2)
-    A = (G.T @ sp.diags(w) @ G + sp.identity(len(used)) * (ANCHOR * float(k.mean()))).tocsc()
-    try:
-        delta = spla.splu(A).solve(G.T @ (w * misfit))
-    except RuntimeError as exc:                            # singular: keep the tangent predictor
-        log.debug("chord fit of the predictor failed: %s", exc)
-        return u1
+    delta = fit.lu.solve(fit.GtW @ misfit)
     if not np.all(np.isfinite(delta)):
         return u1
     u = u1.copy()
-    u[used] += delta
+    u[fit.used] += delta
     return u
