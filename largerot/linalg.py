@@ -42,6 +42,8 @@ Ownership (QDLDL)
 """
 from __future__ import annotations
 
+import copy
+
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
@@ -308,6 +310,8 @@ class _Symbolic:
         self.indptr = np.concatenate([[0], np.cumsum(np.bincount(cols[self.upper], minlength=n))]
                                      ).astype(np.int32)
         self.n = n
+        self.template = sp.csc_matrix((np.zeros(len(self.upper)), self.indices, self.indptr),
+                                      shape=(n, n))
         self.solver = None
         self.owner = None                  # the factorisation whose numbers it holds
 
@@ -315,8 +319,8 @@ class _Symbolic:
         return K.shape == (self.n, self.n) and _same_pattern(K, self.indptr_ref, self.indices_ref)
 
     def upper_triangle(self, K) -> sp.csc_matrix:
-        Ku = sp.csc_matrix((self.n, self.n))           # no validation of trusted arrays
-        Ku.data, Ku.indices, Ku.indptr = K.data[self.upper], self.indices, self.indptr
+        Ku = copy.copy(self.template)                  # validated once (as Assembly._matrix)
+        Ku.data = K.data[self.upper]
         return Ku
 
     def factor(self, Ku, owner) -> None:
