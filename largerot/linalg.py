@@ -53,7 +53,7 @@ try:                                   # optional at import: SuperLU stands in w
 except ImportError:                    # pragma: no cover - exercised by monkeypatching BACKEND
     qdldl = None
 
-__all__ = ["Factorization", "LDLFactorization", "LUFactorization", "factor", "factorize",
+__all__ = ["Factorization", "LDLFactorization", "LUFactorization", "factor", "factorize", "shifted",
            "SingularTangent", "Ordering", "scaled_norm", "SINGULAR_PIVOT", "BACKEND"]
 
 #: A pivot below ``SINGULAR_PIVOT · eps · ‖K̃‖₁`` of its matrix diagonal is taken as
@@ -324,14 +324,27 @@ class _Symbolic:
         return Ku
 
     def factor(self, Ku, owner) -> None:
+        """Factorise ``Ku`` for ``owner``; the D of the result is ``self.d``.
+
+        ``Solver.update`` reports no failure: a zero pivot stops QDLDL and leaves
+        stale numbers, so D is read back and checked (its cost, 0.2–0.3 of the update,
+        is not lost: the inertia at a converged point reads the same D).
+        """
+        self.owner = None                  # until the new numbers are complete
         try:
             if self.solver is None:
                 self.solver = qdldl.Solver(Ku, upper=True)
             else:
                 self.solver.update(Ku, upper=True)
-        except (ValueError, RuntimeError) as exc:        # a zero pivot
-            self.owner = None
+            _, d, perm = self.solver.factors()
+        except (ValueError, RuntimeError) as exc:        # a zero pivot in a new solver
+            self.solver = None
             raise SingularTangent(f"The LDLᵀ factorisation failed: {exc}") from None
+        d = np.asarray(d)
+        if not np.all(np.isfinite(d)) or not np.all(d != 0.0):
+            self.solver = None             # partly overwritten: rebuild on next use
+            raise SingularTangent("The LDLᵀ factorisation met a zero or non-finite pivot.")
+        self.d, self.perm = d, np.asarray(perm, dtype=np.int64)
         self.owner = owner
 
 
@@ -366,6 +379,7 @@ class LDLFactorization(Factorization):
         self._symbolic = _symbolic(K)
         self._Ku = self._symbolic.upper_triangle(K)
         self._symbolic.factor(self._Ku, self)
+        self._d, self._perm = self._symbolic.d, self._symbolic.perm
 
     def _solver(self):
         s = self._symbolic
@@ -374,8 +388,7 @@ class LDLFactorization(Factorization):
         return s.solver
 
     def _pivots_in_order(self):
-        _, d, perm = self._solver().factors()
-        return np.asarray(d), np.asarray(perm, dtype=np.int64)
+        return self._d, self._perm
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         b = np.asarray(b, dtype=float)
@@ -387,6 +400,21 @@ class LDLFactorization(Factorization):
     def __getstate__(self):
         raise TypeError("A factorisation holds a native solver and does not pickle; "
                         "refactorise K after loading.")
+
+
+def shifted(K: sp.csc_matrix, diagonal: np.ndarray) -> sp.csc_matrix:
+    """K + diag(``diagonal``) with K's sparsity pattern (explicit zeros kept), so that
+    its factorisation reuses the pattern's symbolic analysis; shape (n, n)."""
+    n = K.shape[0]
+    if K.format == "csc" and K.has_canonical_format:
+        cols = np.repeat(np.arange(n), np.diff(K.indptr))
+        on_diagonal = K.indices == cols
+        if np.count_nonzero(on_diagonal) == n:
+            Ks = copy.copy(K)
+            Ks.data = K.data.copy()
+            Ks.data[on_diagonal] += diagonal
+            return Ks
+    return (K + sp.diags(diagonal)).tocsc()
 
 
 def factor(K: sp.csc_matrix, symmetric: bool = True) -> Factorization:

@@ -118,3 +118,28 @@ def test_superlu_stands_in_without_qdldl_and_for_non_symmetric_tangents(monkeypa
     monkeypatch.undo()
     lam_ldl = lr.trace(sc.structure, lr.by_arc_length(), max_steps=40).critical_points[0].load_factor
     assert lam_lu == pytest.approx(lam_ldl, rel=1e-8)
+
+
+def test_a_singular_matrix_of_a_known_pattern_is_refused():
+    # QDLDL's numeric update reports no failure by itself: a matrix of a pattern
+    # already analysed, with one DOF's row and column zeroed (pattern kept), must
+    # still be refused, not solved with the previous matrix's numbers
+    K, F = _portal_tangent()
+    linalg.factor(K).solve(F)
+    Ks = K.copy()
+    j = 7
+    cols = np.repeat(np.arange(K.shape[0]), np.diff(K.indptr))
+    Ks.data[(Ks.indices == j) | (cols == j)] = 0.0
+    with pytest.raises(linalg.SingularTangent):
+        linalg.factor(Ks)
+    np.testing.assert_allclose(K @ linalg.factor(K).solve(F), F, atol=1e-6 * abs(F).max())
+
+
+def test_a_shifted_tangent_keeps_the_pattern_and_its_analysis():
+    K, F = _portal_tangent()
+    w = np.linspace(1.0, 2.0, K.shape[0])
+    Ks = linalg.shifted(K, w)
+    # (K + w) − K in floating point: exact up to the rounding of K's diagonal
+    np.testing.assert_allclose((Ks - K).diagonal(), w, rtol=0, atol=4 * np.finfo(float).eps * abs(K.diagonal()).max())
+    assert Ks.nnz == K.nnz
+    assert linalg.factor(Ks)._symbolic is linalg.factor(K)._symbolic

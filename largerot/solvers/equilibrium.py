@@ -14,9 +14,8 @@ from __future__ import annotations
 import logging
 
 import numpy as np
-import scipy.sparse as sp
 
-from ..linalg import SingularTangent, factor
+from ..linalg import SingularTangent, factor, shifted
 from .newton import LoadConstraint, NewtonResult, newton
 
 __all__ = ["settle"]
@@ -45,11 +44,11 @@ def settle(problem, u: np.ndarray, lam: float, tol: float, tol_u: float,
     if rn == 0.0 or not np.isfinite(rn):
         return res
     shift = peak / (FIRST_MOVE * problem.length_scale)
-    W = sp.diags(problem.weights**2)         # rotations weighed like the size
+    w2 = problem.weights**2                  # rotations weighed like the size
     mu = 1.0
     for k in range(MAX_RELAXATION):
         try:
-            fact = factor((K + mu * shift * W).tocsc(), symmetric=problem.symmetric)
+            fact = factor(shifted(K, mu * shift * w2), symmetric=problem.symmetric)
         except SingularTangent:
             mu *= 10.0
             continue

@@ -72,9 +72,8 @@ import logging
 from dataclasses import dataclass, field
 
 import numpy as np
-import scipy.sparse as sp
 
-from ..linalg import Factorization, SingularTangent, factor
+from ..linalg import Factorization, SingularTangent, factor, shifted
 from .problem import Problem
 
 __all__ = ["NewtonResult", "newton", "LoadConstraint", "DisplacementConstraint"]
@@ -250,7 +249,7 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
         The state reached with its evaluation (None if no step was taken), and the
         number of relaxation steps.
     """
-    W = sp.diags(np.broadcast_to(getattr(problem, "weights", 1.0), u.shape) ** 2)
+    w2 = np.broadcast_to(getattr(problem, "weights", 1.0), u.shape) ** 2
     diag = float(np.abs(K.diagonal()).max()) or 1.0
     sigma = RELAX_START * diag
     rn = float(np.linalg.norm(r))
@@ -258,7 +257,7 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
     n = 0
     for n in range(1, max_steps + 1):
         try:
-            fact = factor((K + sigma * W).tocsc(), symmetric=problem.symmetric)
+            fact = factor(shifted(K, sigma * w2), symmetric=problem.symmetric)
         except SingularTangent:
             sigma *= 10.0
             continue
@@ -362,7 +361,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
             break
         if (relaxations < MAX_RELAXATIONS and n_relaxed < MAX_RELAX_STEPS
                 and k - last_relaxed >= STALL and k - uphill <= STALL
-                and ratio >= min(history[-STALL - 1:-1])):
+                and min(history[-STALL:]) >= min(history[:-STALL])):
             relaxations, last_relaxed = relaxations + 1, k
             u, lam, ev, n = relaxed(problem, u, lam, constraint, r, K,
                                     MAX_RELAX_STEPS - n_relaxed)
