@@ -122,7 +122,8 @@ def sparse_pattern(dofmaps: list, free_index: np.ndarray):
     valid = _BITS[pair_mask]                               # [pair, dof_col, dof_row]
     valid &= node_free[cn][:, :, None]
     valid &= node_free[rn][:, None, :]
-    count = valid.sum(axis=2, dtype=np.int64)               # rows per (pair, dof_col)
+    count = np.add(valid[:, :, 0], valid[:, :, 1], dtype=np.int64)   # rows per (pair, dof_col)
+    count += valid[:, :, 2]
     first = np.flatnonzero(np.r_[True, cn[1:] != cn[:-1]]) if len(cn) else np.zeros(0, np.int64)
     col_len = np.zeros((len(node_free), 3), np.int64)
     if len(first):
