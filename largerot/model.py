@@ -8,6 +8,7 @@ from __future__ import annotations
 import copy
 import math
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 
@@ -42,7 +43,10 @@ class Member:
     kind : str
         ``"beam"``, ``"bar"`` or ``"cable"``.
     nodes : tuple of int
-        Node ids from end to end, including the intermediate nodes of the mesh.
+        Node ids from end to end, including the intermediate nodes of the mesh
+        (built from ``node_array`` when first asked).
+    node_array : numpy.ndarray of int, shape (n_elements + 1,)
+        The same ids as a read-only array.
     elements : numpy.ndarray
         Indices of its elements among the elements of its kind (a cable's segments
         are tension-only bar elements, counted among the bars).
@@ -51,18 +55,73 @@ class Member:
 
     id: int
     kind: str
-    nodes: tuple
+    node_array: np.ndarray = field(repr=False)
     elements: np.ndarray = field(repr=False)
     section: Section = field(repr=False)
 
+    def __post_init__(self) -> None:
+        self.node_array.setflags(write=False)
+
+    @cached_property
+    def nodes(self) -> tuple:
+        # a tuple of Python ints for the user, built once when first asked: a finely
+        # meshed model keeps no Python object per node unless someone asks for this
+        return tuple(self.node_array.tolist())
+
     @property
     def ends(self) -> tuple:
-        return self.nodes[0], self.nodes[-1]
+        return int(self.node_array[0]), int(self.node_array[-1])
+
+    def __repr__(self) -> str:
+        return f"Member(id={self.id!r}, kind={self.kind!r}, nodes={self.nodes!r})"
+
+
+class _Rows:
+    """Rows appended to an array that grows by doubling (amortised O(1) per row).
+
+    Holds what a Structure records per node and per element as numbers, not as one
+    Python object per row.
+    """
+
+    def __init__(self, width: int, dtype) -> None:
+        self._data = np.empty((INITIAL_ROWS, width) if width else (INITIAL_ROWS,), dtype)
+        self._n = 0
+
+    @classmethod
+    def of(cls, rows: np.ndarray) -> "_Rows":
+        rows = np.asarray(rows)
+        new = cls(rows.shape[1] if rows.ndim == 2 else 0, rows.dtype)
+        new.extend(rows)
+        return new
+
+    def __len__(self) -> int:
+        return self._n
+
+    def __getitem__(self, i):
+        return self._data[:self._n][i]
+
+    def extend(self, rows) -> None:
+        rows = np.asarray(rows, dtype=self._data.dtype).reshape((-1,) + self._data.shape[1:])
+        end = self._n + len(rows)
+        if end > len(self._data):
+            grown = np.empty((max(end, 2 * len(self._data)),) + self._data.shape[1:], self._data.dtype)
+            grown[:self._n] = self._data[:self._n]
+            self._data = grown
+        self._data[self._n:end] = rows
+        self._n = end
+
+    def array(self) -> np.ndarray:
+        """A copy of the rows, shape (n, width) or (n,)."""
+        return self._data[:self._n].copy()
+
+
+#: Rows reserved when a Structure's tables are created (they double when full).
+INITIAL_ROWS = 16
 
 
 def _spread(f: np.ndarray, m: Member, q: np.ndarray, lengths: dict) -> None:
     """Add half of each element's load q·L0 (L0 unstretched) to each of its ends."""
-    nodes = np.array(m.nodes)
+    nodes = m.node_array
     L0 = lengths["bar" if m.kind == "cable" else m.kind][m.elements]
     for end in (nodes[:-1], nodes[1:]):
         for k in range(2):
@@ -98,8 +157,9 @@ class Structure:
     """
 
     def __init__(self) -> None:
-        self._xy: list[tuple[float, float]] = []
-        self._elements: dict[str, list[tuple[int, int, int]]] = {"beam": [], "bar": []}
+        self._xy = _Rows(2, float)                               # node coordinates
+        # per element of each table: end nodes and section id
+        self._elements = {"beam": _Rows(3, np.int64), "bar": _Rows(3, np.int64)}
         self._sections: list[Section] = []
         self.members: list[Member] = []
         self._fixed: set[tuple[int, int]] = set()
@@ -107,8 +167,8 @@ class Structure:
         self._springs: dict[tuple[int, int], float] = {}
         # per bar element: unstretched length (NaN: the undeformed chord) and
         # whether it is a tension-only cable segment
-        self._bar_L0: list[float] = []
-        self._bar_cable: list[bool] = []
+        self._bar_L0 = _Rows(0, float)
+        self._bar_cable = _Rows(0, bool)
         self._line_loads: list[tuple[int, float, float, float, float, bool]] = []
         self._followers: dict[tuple[int, bool], tuple[float, float]] = {}
         self._gravity: tuple[float, float, float, bool] | None = None
@@ -127,12 +187,12 @@ class Structure:
     @property
     def xy(self) -> np.ndarray:
         """Undeformed node coordinates, shape (n_nodes, 2)."""
-        return np.array(self._xy, dtype=float).reshape(-1, 2)
+        return self._xy.array()
 
     def node(self, x: float, y: float) -> int:
         """Add a node at (x, y) and return its id."""
         n = len(self._xy)
-        self._xy.append((_finite(f"Node {n} x", x), _finite(f"Node {n} y", y)))
+        self._xy.extend((_finite(f"Node {n} x", x), _finite(f"Node {n} y", y)))
         self._changed()
         return n
 
@@ -177,16 +237,17 @@ class Structure:
             t = np.arange(1, segments)[:, None] / segments
             points = pa + t * (pb - pa)
         first_new = len(self._xy)
-        self._xy.extend((float(x), float(y)) for x, y in points)
-        chain = [a, *range(first_new, len(self._xy)), b]
+        self._xy.extend(points)
+        chain = np.empty(segments + 1, np.int64)
+        chain[0], chain[1:-1], chain[-1] = a, np.arange(first_new, len(self._xy)), b
         elems = self._elements[table]
         first = len(elems)
-        elems.extend((chain[k], chain[k + 1], sid) for k in range(segments))
+        elems.extend(np.column_stack([chain[:-1], chain[1:], np.full(segments, sid)]))
         if table == "bar":
-            self._bar_L0.extend([np.nan] * segments if L0 is None else [float(L0)] * segments)
-            self._bar_cable.extend([kind == "cable"] * segments)
+            self._bar_L0.extend(np.full(segments, np.nan if L0 is None else float(L0)))
+            self._bar_cable.extend(np.full(segments, kind == "cable"))
         self._member_ends[key] = mid
-        member = Member(mid, kind, tuple(chain), np.arange(first, first + segments), section)
+        member = Member(mid, kind, chain, np.arange(first, first + segments), section)
         self.members.append(member)
         self._changed()
         return member
@@ -393,11 +454,11 @@ class Structure:
         return snap[1]
 
     def _build_snapshot(self) -> Model:
-        xy = np.array(self._xy, dtype=float).reshape(-1, 2)
-        tables = {k: np.array(v, dtype=np.int64).reshape(-1, 3) for k, v in self._elements.items()}
+        xy = self._xy.array()
+        tables = {k: v.array() for k, v in self._elements.items()}
         bar_nodes = tables["bar"][:, :2]
         chord = np.hypot(*(xy[bar_nodes[:, 1]] - xy[bar_nodes[:, 0]]).T) if len(bar_nodes) else np.zeros(0)
-        given = np.array(self._bar_L0, dtype=float).reshape(-1)
+        given = self._bar_L0.array()
         bar_length = np.where(np.isnan(given), chord, given) if len(given) else chord
         lengths = {"beam": np.hypot(*(xy[tables["beam"][:, 1]] - xy[tables["beam"][:, 0]]).T)
                    if len(tables["beam"]) else np.zeros(0), "bar": bar_length}
@@ -406,7 +467,7 @@ class Structure:
         return Model(
             xy=xy, beam_nodes=tables["beam"][:, :2], beam_sections=tables["beam"][:, 2],
             bar_nodes=bar_nodes, bar_sections=tables["bar"][:, 2], bar_length=bar_length,
-            bar_cable=np.array(self._bar_cable, dtype=bool).reshape(-1),
+            bar_cable=self._bar_cable.array(),
             sections=tuple(self._sections), members=tuple(self.members),
             fixed=np.array(sorted(3 * n + d for n, d in self._fixed), dtype=np.int64),
             spring_dofs=np.array([3 * n + d for n, d in spring_keys], dtype=np.int64),
@@ -437,7 +498,7 @@ class Structure:
         if len(bad):
             raise ModelError(f"Node {int(bad[0])} would move to a non-finite position {xy[bad[0]].tolist()}.")
         new = self.copy()
-        new._xy = [(float(x), float(y)) for x, y in xy]
+        new._xy = _Rows.of(xy)
         new._changed()
         return new
 
@@ -520,15 +581,17 @@ class Structure:
         for mid, _, _, p, t, c in self._line_loads:
             if c == constant and (p or t):
                 m = self.members[mid]
-                kinds += ["bar" if m.kind == "cable" else m.kind] * len(m.elements)
-                elems += list(m.elements)
-                vals += [(p, t)] * len(m.elements)
-        return (np.array(kinds, dtype=object), np.array(elems, dtype=np.int64),
-                np.array(vals, dtype=float).reshape(-1, 2))
+                n = len(m.elements)
+                kinds.append(np.full(n, "bar" if m.kind == "cable" else m.kind, dtype=object))
+                elems.append(np.asarray(m.elements, dtype=np.int64))
+                vals.append(np.tile([p, t], (n, 1)))
+        return (np.concatenate(kinds + [np.zeros(0, object)]),
+                np.concatenate(elems + [np.zeros(0, np.int64)]),
+                np.concatenate(vals + [np.zeros((0, 2))]).astype(float))
 
     def __repr__(self) -> str:
         nb = len(self._elements["beam"])
-        nc = int(sum(self._bar_cable))
+        nc = int(self._bar_cable.array().sum())
         nr = len(self._elements["bar"]) - nc
         cables = f", {nc} cable" if nc else ""
         return (f"Structure({self.n_nodes} nodes, {len(self.members)} members: "

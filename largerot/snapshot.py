@@ -95,7 +95,7 @@ class Model:
     def n_dof(self) -> int:
         return 3 * len(self.xy)
 
-    @property
+    @cached_property
     def length_scale(self) -> float:
         """Size of the structure (bounding-box diagonal), to weigh rotations against lengths."""
         if len(self.xy) == 0:

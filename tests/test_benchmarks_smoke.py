@@ -9,7 +9,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 SECTIONS = ["machine", "goals", "iteration", "baseline", "scaling", "conditioning", "efficiency",
-            "latency", "memory"]
+            "latency", "build", "memory"]
 
 
 def test_quick_benchmark_writes_results(tmp_path):
@@ -29,4 +29,8 @@ def test_quick_benchmark_writes_results(tmp_path):
     assert all(r["tip_relative_difference"] < 1e-8 for r in res["baseline"])
     assert "exponent" in res["scaling"]
     assert res["memory"]["path_shares_snapshot"] is True
+    # the memory figures are the child's own (its VmHWM), never below what it started with
+    m = res["memory"]
+    assert m["interpreter_MB"] <= m["peak_model_MB"] <= m["peak_trace_MB"]
+    assert {"build_s", "first_build_s", "iteration_s", "ratio"} <= set(res["build"])
     assert "Newton iteration" in proc.stdout
