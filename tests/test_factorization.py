@@ -143,3 +143,26 @@ def test_a_shifted_tangent_keeps_the_pattern_and_its_analysis():
     np.testing.assert_allclose((Ks - K).diagonal(), w, rtol=0, atol=4 * np.finfo(float).eps * abs(K.diagonal()).max())
     assert Ks.nnz == K.nnz
     assert linalg.factor(Ks)._symbolic is linalg.factor(K)._symbolic
+
+
+@pytest.mark.parametrize("j", [0, 1, 2])
+def test_the_eigenpair_of_a_large_tangent_matches_the_dense_one(monkeypatch, j):
+    # the straight column of the bifurcation test at 12·Pcr (two negative eigenvalues):
+    # eigenpair j by shift-invert about zero, as for a large model, against LAPACK's
+    # dense symmetric eigensolver (scipy.linalg.eigh)
+    from largerot.solvers import stability
+    s = lr.Structure()
+    sec = lr.Section(E=1.0, A=1e3, I=1.0)
+    base, top = s.node(0, 0), s.node(0, 1)
+    s.beam(base, top, sec, segments=20)
+    s.fix(base)
+    s.load(top, fy=-1.0)
+    P = Problem(Assembly.of(s))
+    lam = 12 * np.pi**2 / 4
+    _, K0, _ = P.residual(np.zeros(P.n), 0.0)
+    _, K, _ = P.residual(lam * linalg.factor(K0).solve(P.F), lam)
+    w, v = sl.eigh(K.toarray())
+    monkeypatch.setattr(stability, "DENSE_MAX", 0)
+    mu, phi = stability.eigenpair(K, j)
+    assert mu == pytest.approx(w[j], rel=1e-8, abs=1e-10 * abs(w).max())
+    assert abs(phi @ v[:, j]) == pytest.approx(1.0, abs=1e-8)

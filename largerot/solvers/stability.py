@@ -24,7 +24,7 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from ..linalg import Factorization
+from ..linalg import Factorization, SingularTangent, factor
 
 __all__ = ["count_negative", "eigenpair", "DENSE_MAX"]
 
@@ -34,6 +34,12 @@ DENSE_MAX = 600
 #: Eigenvalues nearest zero examined for a non-symmetric tangent (a handful
 #: suffices: stability is lost one or two eigenvalues at a time).
 N_NONSYMMETRIC = 6
+#: Eigenpairs nearest zero computed for a large symmetric tangent: the eigenvalue that
+#: changes sign at a critical point is among them.
+N_NEAREST = 4
+#: Restarts of ARPACK at most. Its default (10·n) is unbounded in practice: without
+#: shift-invert the smallest eigenvalues of a 90,000-DOF tangent took over 10 minutes.
+ARPACK_MAXITER = 300
 
 
 def count_negative(fact: Factorization) -> int:
@@ -51,7 +57,8 @@ def _symmetric_values(K: sp.spmatrix, k: int) -> np.ndarray:
     if n <= DENSE_MAX:
         return np.linalg.eigvalsh(K.toarray())
     k = min(max(k, 1), n - 1)
-    return np.sort(spla.eigsh(K, k=k, which="SA", return_eigenvectors=False))
+    return np.sort(spla.eigsh(K, k=k, which="SA", maxiter=ARPACK_MAXITER,
+                              return_eigenvectors=False))
 
 
 def _nonsymmetric_values(K: sp.spmatrix) -> np.ndarray:
@@ -59,7 +66,30 @@ def _nonsymmetric_values(K: sp.spmatrix) -> np.ndarray:
     if n <= DENSE_MAX:
         return np.linalg.eigvals(K.toarray())
     k = min(N_NONSYMMETRIC, n - 2)
-    return spla.eigs(K, k=k, sigma=0.0, which="LM", return_eigenvectors=False)
+    return spla.eigs(K, k=k, sigma=0.0, which="LM", maxiter=ARPACK_MAXITER,
+                     return_eigenvectors=False)
+
+
+def _nearest_pair(K: sp.spmatrix, j: int) -> tuple[float, np.ndarray]:
+    """Eigenpair number ``j`` (ascending) of a large symmetric K, from the ``N_NEAREST``
+    eigenpairs nearest zero by shift-invert (``K⁻¹`` by the LDLᵀ factor, whose D also
+    counts the eigenvalues below them); the one nearest zero if ``j`` is not among them."""
+    n = K.shape[0]
+    k = min(N_NEAREST, n - 1)
+    try:
+        fact = factor(K)
+        inverse = spla.LinearOperator(K.shape, matvec=fact.solve, dtype=float)
+        w, v = spla.eigsh(K, k=k, sigma=0.0, which="LM", OPinv=inverse, maxiter=ARPACK_MAXITER)
+    except (SingularTangent, spla.ArpackNoConvergence, spla.ArpackError):
+        w, v = spla.eigsh(K, k=min(j + 2, n - 1), which="SA", maxiter=ARPACK_MAXITER)
+        order = np.argsort(w)
+        return float(w[order[j]]), v[:, order[j]]
+    order = np.argsort(w)
+    w, v = w[order], v[:, order]
+    i = j - (fact.n_negative - int(np.count_nonzero(w < 0.0)))   # index among the nearest
+    if not 0 <= i < k:
+        i = int(np.argmin(np.abs(w)))
+    return float(w[i]), v[:, i]
 
 
 def eigenpair(K: sp.spmatrix, j: int, symmetric: bool = True) -> tuple[float, np.ndarray]:
@@ -87,9 +117,7 @@ def eigenpair(K: sp.spmatrix, j: int, symmetric: bool = True) -> tuple[float, np
             # one eigenpair by index (LAPACK's MRRR): several times faster than all
             w, v = sla.eigh(K.toarray(), subset_by_index=[j, j], driver="evr")
             return float(w[0]), v[:, 0]
-        w, v = spla.eigsh(K, k=min(j + 2, n - 1), which="SA")
-        order = np.argsort(w)
-        return float(w[order[j]]), v[:, order[j]]
+        return _nearest_pair(K, j)
     if n <= DENSE_MAX:
         w, v = np.linalg.eig(K.toarray())
     else:
