@@ -14,7 +14,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import shortest_path
 
 from .errors import ModelError
 from .groups import Group, build_groups, build_loads
@@ -302,41 +301,9 @@ class Assembly:
         if template is None:
             template = self._template = sp.csc_matrix(
                 (np.zeros(self.nnz), self.indices, self.indptr), shape=(self.n_free, self.n_free))
-            template.elimination_hint = self.elimination_hint()
         K = copy.copy(template)
         K.data = data[:-1]
         return K
-
-    def elimination_hint(self) -> np.ndarray:
-        """Free DOFs ordered from the farthest from any support to the nearest.
-
-        Carried by every tangent (``K.elimination_hint``) for the LDLᵀ, whose
-        fill-reducing ordering breaks its ties by it (:mod:`largerot.linalg`): a long
-        chain is then eliminated from its free end toward its support. Eliminated the
-        other way, each step condenses an ever longer cantilever to its tip, whose
-        stiffness (∼EI/ℓ³) is a vanishing difference of element stiffnesses (∼EI/h³):
-        on the lighting pole in 15,000 elements the linear tip deflection from the
-        factor was 300 % off from the base, 0.8 % from the tip
-        (``benchmarks/mesh_resolution.py``).
-
-        Returns
-        -------
-        ndarray of int, shape (n_free,)
-            Positions among the free DOFs, in elimination order.
-        """
-        n = self.model.n_nodes
-        pairs = [np.stack([dm[:, 0] // 3, dm[:, k] // 3], axis=1)
-                 for g in self.groups for dm in (g.dofmap,) for k in range(1, dm.shape[1])]
-        pairs = np.concatenate(pairs + [np.zeros((0, 2), np.int64)])
-        held = np.unique(np.concatenate([self.fixed, self.model.spring_dofs]).astype(np.int64) // 3)
-        # node graph plus a source node n joined to every held node: hops from a support
-        rows = np.concatenate([pairs[:, 0], np.full(len(held), n)])
-        cols = np.concatenate([pairs[:, 1], held])
-        graph = sp.coo_matrix((np.ones(len(rows)), (rows, cols)), shape=(n + 1, n + 1)).tocsr()
-        hops = shortest_path(graph, directed=False, unweighted=True, indices=n)[:n]
-        hops[~np.isfinite(hops)] = n + 1                # a part no support holds: first
-        node = self.free // 3
-        return np.lexsort((self.free, -hops[node])).astype(np.int64)
 
     def evaluate(self, u: np.ndarray, states: list, tangent: bool = True, lam: float | None = None,
                  const_factor: float = 1.0) -> Evaluation:

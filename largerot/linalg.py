@@ -299,38 +299,16 @@ class LUFactorization(Factorization):
 
 
 class _Symbolic:
-    """One sparsity pattern's QDLDL solver and the gather of K's upper triangle.
-
-    When K carries an ``elimination_hint`` (the assembly's tangents do: free DOFs
-    farthest from a support first), the triangle is gathered already permuted to that
-    order (reversed: QDLDL's AMD ordering breaks its ties toward the highest index), so
-    long chains are eliminated from their free ends (``Assembly.elimination_hint``). The gather costs
-    the same either way.
-    """
+    """One sparsity pattern's QDLDL solver and the gather of K's upper triangle."""
 
     def __init__(self, K: sp.csc_matrix) -> None:
         self.indptr_ref, self.indices_ref = K.indptr, K.indices
         n = K.shape[0]
-        hint = getattr(K, "elimination_hint", None)
-        # AMD takes, among variables of least degree, the one of highest index first
-        # (measured on chains): the first DOF to eliminate goes last
-        self.order = None if hint is None or len(hint) != n else np.asarray(hint, np.int64)[::-1].copy()
-        if self.order is None:
-            cols = np.repeat(np.arange(n), np.diff(K.indptr))
-            self.upper = np.flatnonzero(K.indices <= cols)   # entries of triu(K), in order
-            indices, counts = K.indices[self.upper], np.bincount(cols[self.upper], minlength=n)
-        else:
-            # entry e of K, at (i, j), goes to (pos[i], pos[j]) of P·K·Pᵀ
-            pos = np.empty(n, np.int64)
-            pos[self.order] = np.arange(n)
-            M = sp.csc_matrix((np.arange(1, K.nnz + 1, dtype=float), K.indices, K.indptr),
-                              shape=(n, n))
-            Mp = sp.triu(M[self.order][:, self.order], format="csc")
-            Mp.sort_indices()
-            self.upper = Mp.data.astype(np.int64) - 1
-            indices, counts = Mp.indices, np.diff(Mp.indptr)
-        self.indices = indices.astype(np.int32)
-        self.indptr = np.concatenate([[0], np.cumsum(counts)]).astype(np.int32)
+        cols = np.repeat(np.arange(n), np.diff(K.indptr))
+        self.upper = np.flatnonzero(K.indices <= cols)       # entries of triu(K), in order
+        self.indices = K.indices[self.upper].astype(np.int32)
+        self.indptr = np.concatenate([[0], np.cumsum(np.bincount(cols[self.upper], minlength=n))]
+                                     ).astype(np.int32)
         self.n = n
         self.template = sp.csc_matrix((np.zeros(len(self.upper)), self.indices, self.indptr),
                                       shape=(n, n))
@@ -366,8 +344,7 @@ class _Symbolic:
         if not np.all(np.isfinite(d)) or not np.all(d != 0.0):
             self.solver = None             # partly overwritten: rebuild on next use
             raise SingularTangent("The LDLᵀ factorisation met a zero or non-finite pivot.")
-        perm = np.asarray(perm, dtype=np.int64)
-        self.d, self.perm = d, (perm if self.order is None else self.order[perm])
+        self.d, self.perm = d, np.asarray(perm, dtype=np.int64)
         self.owner = owner
 
 
@@ -415,18 +392,10 @@ class LDLFactorization(Factorization):
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         b = np.asarray(b, dtype=float)
-        solver, order = self._solver(), self._symbolic.order
-        if order is not None:
-            b = b[order]
+        solver = self._solver()
         if b.ndim == 1:
-            x = solver.solve(b)
-        else:
-            x = np.column_stack([solver.solve(np.ascontiguousarray(col)) for col in b.T])
-        if order is None:
-            return x
-        out = np.empty_like(x)
-        out[order] = x
-        return out
+            return solver.solve(b)
+        return np.column_stack([solver.solve(np.ascontiguousarray(col)) for col in b.T])
 
     def __getstate__(self):
         raise TypeError("A factorisation holds a native solver and does not pickle; "
