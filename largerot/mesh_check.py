@@ -2,14 +2,15 @@
 
 The tangent of a beam chain meshed into n elements of length h carries the chain's
 bending stiffness (∼EI/L³) as a small difference of element stiffnesses (∼EI/h³):
-rounding the assembled entries perturbs it by about eps·(L/h)³ relative, whatever
-solver factorises it. Newton's method converges at the rate of that perturbation.
-Measured on the 8 m lighting pole (clamped, P·L²/EI = 2.4, 8 load steps): the linear
-tip deflection from the assembled tangent, solved exactly (extended-precision
-refinement), is off by 6e-7 at 1,000 elements, 2 % at 10,000 and 35 % at 30,000;
-the trace needs 2–5 iterations per point up to 20,000 elements and cut steps with
-11–18 iterations at 30,000; at 100,000 Newton diverges
-(``benchmarks/RESULTS.md``, "Meshes beyond double precision").
+rounding the assembled entries and the factorisation perturbs it by about
+eps·(L/h)³ relative, so Newton's corrections lose accuracy as n grows. Measured on
+the 8 m lighting pole (clamped, P·L²/EI = 2.4, 8 load steps; LDLᵀ back end;
+``benchmarks/mesh_resolution.py``): the linear tip deflection from the factorised
+tangent at rest is off by 1e-5 at 1,000 elements, 2e-3 at 10,000 and 300 % at
+15,000; refining the solve in extended precision does not help (2 % at 10,000, no
+convergence beyond: the stored tangent itself is that far off). The trace takes 2.6
+iterations per point at 10,000 elements, 8–11 at 15,000–20,000, and fails at
+30,000 (after 23 s).
 
 A clamped chain (a cantilever) is the worst case; supports or branches along a
 member end its chain. :func:`check_resolution` warns once per model when a chain is
@@ -26,8 +27,8 @@ from scipy.sparse.csgraph import connected_components
 __all__ = ["MeshWarning", "beam_chains", "check_resolution", "CHAIN_LIMIT"]
 
 #: Longest unbranched beam chain (elements) without a warning: the lighting pole
-#: converges in 2–5 iterations per point at 20,000 elements and needs cuts at 30,000.
-CHAIN_LIMIT = 20_000
+#: takes 2.6 iterations per point at 10,000 elements, 11 at 15,000, fails at 30,000.
+CHAIN_LIMIT = 10_000
 
 
 class MeshWarning(UserWarning):
@@ -83,5 +84,5 @@ def check_resolution(model) -> None:
         f"Beam member(s) {', '.join(map(str, members))} form an unbranched chain of "
         f"{sizes[chain]:,} elements: in double precision the tangent resolves the bending "
         f"of a chain of up to about {CHAIN_LIMIT:,} (largerot.mesh_check); Newton may "
-        f"converge slowly or not at all. Fewer segments give the same path (40 per member "
+        f"converge slowly or not at all, and the stability check may be wrong. Fewer segments give the same path (40 per member "
         f"are within 2e-3 of the elastica).", MeshWarning, stacklevel=3)
