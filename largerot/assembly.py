@@ -319,17 +319,24 @@ class Assembly:
             With follower loads and a load factor ``lam``, the tangent includes their
             load stiffness: K = ∂f_int/∂u − λ·∂F_ref/∂u − const_factor·∂F_const/∂u.
         """
-        f = np.zeros(self.n_dof)
-        data = np.zeros(self.nnz + 1) if tangent else None
+        # the first group's scattered arrays are kept as they come (no zeroed array and
+        # no sum for one-kind models): fewer large temporaries per iteration
+        f = data = None
         scale2 = 0.0
         results = []
         for g, pos, st in zip(self.groups, self.positions, states):
             res = g.evaluate(u[g.dofmap], st, tangent)
-            f += np.bincount(g.dofmap.ravel(), weights=res.f.ravel(), minlength=self.n_dof)
+            fg = np.bincount(g.dofmap.ravel(), weights=res.f.ravel(), minlength=self.n_dof)
+            f = fg if f is None else np.add(f, fg, out=f)
             scale2 += float(np.einsum("ij,ij->", res.f, res.f))
             if tangent:
-                data += np.bincount(pos, weights=res.K.ravel(), minlength=self.nnz + 1)
+                dg = np.bincount(pos, weights=res.K.ravel(), minlength=self.nnz + 1)
+                data = dg if data is None else np.add(data, dg, out=data)
             results.append(res)
+        if f is None:
+            f = np.zeros(self.n_dof)
+        if tangent and data is None:
+            data = np.zeros(self.nnz + 1)
         if tangent and lam is not None:
             self._subtract_load_stiffness(data, u, lam, const_factor)
         K = self._matrix(data) if tangent else None
