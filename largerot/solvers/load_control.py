@@ -50,6 +50,10 @@ JUMP_FACTOR = 5.0
 LIMIT_SEARCH_AFTER_CUTS = 3
 #: Arc-length steps of the search for a limit point (each a short Newton solve).
 LIMIT_SEARCH_STEPS = 40
+#: ... and gives up after this many failed corrections in a row (its step halved each
+#: time): a path that cannot be followed at 1/16 of the step will not be found by
+#: halving further, and each failure costs a whole Newton run (minutes at 10⁵ elements).
+LIMIT_SEARCH_FAILURES = 4
 #: Its first arc length as a share of the last step of the path (in the metric).
 LIMIT_SEARCH_SHARE = 0.25
 
@@ -170,6 +174,7 @@ class LoadStepper(PathStepper):
         sign = 1.0 if lam_end >= a.lam else -1.0
         u, lam, n_now, prev = a.u, a.lam, a.n_negative, None
         dl = None
+        failures = 0
         for _ in range(LIMIT_SEARCH_STEPS):
             _, K, _ = prob.residual(u, lam)
             try:
@@ -191,8 +196,12 @@ class LoadStepper(PathStepper):
                          self.tol, self.tol_u, self.max_iterations)
             self.n_factorizations += res.iterations + 1
             if not res.converged:
+                failures += 1
+                if failures == LIMIT_SEARCH_FAILURES:
+                    return None, False
                 dl /= 2.0
                 continue
+            failures = 0
             n = count_negative(res.factorization)
             if n != n_now:
                 info = locate(prob, self.lam_scale, u, lam, res.u, res.lam, n_now, n,
