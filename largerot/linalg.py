@@ -307,6 +307,8 @@ class _Symbolic:
         n = K.shape[0]
         cols = np.repeat(np.arange(n), np.diff(K.indptr))
         self.upper = np.flatnonzero(K.indices <= cols)       # entries of triu(K), in order
+        diagonal = np.flatnonzero(K.indices == cols)
+        self.diagonal = diagonal if len(diagonal) == n else None   # None: a zero by pattern
         self.indices = K.indices[self.upper].astype(np.int32)
         self.indptr = np.concatenate([[0], np.cumsum(np.bincount(cols[self.upper], minlength=n))]
                                      ).astype(np.int32)
@@ -325,27 +327,16 @@ class _Symbolic:
         return Ku
 
     def factor(self, Ku, owner) -> None:
-        """Factorise ``Ku`` for ``owner``; the D of the result is ``self.d``.
-
-        ``Solver.update`` reports no failure: a zero pivot stops QDLDL and leaves
-        stale numbers, so D is read back and checked (its cost, 0.2–0.3 of the update,
-        is not lost: the inertia at a converged point reads the same D).
-        """
+        """Factorise ``Ku`` (the upper triangle of a checked K) for ``owner``."""
         self.owner = None                  # until the new numbers are complete
         try:
             if self.solver is None:
                 self.solver = qdldl.Solver(Ku, upper=True)
             else:
                 self.solver.update(Ku, upper=True)
-            _, d, perm = self.solver.factors()
         except (ValueError, RuntimeError) as exc:        # a zero pivot in a new solver
             self.solver = None
             raise SingularTangent(f"The LDLᵀ factorisation failed: {exc}") from None
-        d = np.asarray(d)
-        if not np.all(np.isfinite(d)) or not np.all(d != 0.0):
-            self.solver = None             # partly overwritten: rebuild on next use
-            raise SingularTangent("The LDLᵀ factorisation met a zero or non-finite pivot.")
-        self.d, self.perm = d, np.asarray(perm, dtype=np.int64)
         self.owner = owner
 
 
@@ -377,10 +368,17 @@ class LDLFactorization(Factorization):
             K.sum_duplicates()
             K.sort_indices()
             self.K = K
-        self._symbolic = _symbolic(K)
-        self._Ku = self._symbolic.upper_triangle(K)
-        self._symbolic.factor(self._Ku, self)
-        self._d, self._perm = self._symbolic.d, self._symbolic.perm
+        self._symbolic = sym = _symbolic(K)
+        # QDLDL's numeric update reports no failure: a zero pivot stops it and leaves
+        # stale numbers. A zero pivot in floating point comes from a zero row (a node
+        # whose every member went slack), caught here for O(n); D itself is checked
+        # when the pivots are read (inertia, mechanism check).
+        if sym.diagonal is None or not np.all(K.data[sym.diagonal] != 0.0):
+            raise SingularTangent("The tangent has a zero on its diagonal.")
+        if not np.all(np.isfinite(K.data)):
+            raise SingularTangent("The tangent has non-finite entries.")
+        self._Ku = sym.upper_triangle(K)
+        sym.factor(self._Ku, self)
 
     def _solver(self):
         s = self._symbolic
@@ -389,7 +387,11 @@ class LDLFactorization(Factorization):
         return s.solver
 
     def _pivots_in_order(self):
-        return self._d, self._perm
+        _, d, perm = self._solver().factors()
+        d = np.asarray(d)
+        if not np.all(d != 0.0):
+            raise SingularTangent("The LDLᵀ factorisation met a zero pivot.")
+        return d, np.asarray(perm, dtype=np.int64)
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         b = np.asarray(b, dtype=float)
