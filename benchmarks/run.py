@@ -145,7 +145,7 @@ def iteration_case(kind: str, n: int, repeat: int) -> dict:
 
     lib_opts = dict(permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                     options=dict(SymmetricMode=True))
-    fact = linalg.factorize(K)
+    fact = linalg.factor(K)
     # the best a solver can do with scipy: the ordering computed once, then NATURAL
     order = np.argsort(spla.splu(K, **lib_opts).perm_c)
     Kp = K[order][:, order].tocsc()
