@@ -11,7 +11,8 @@ from .fibres import FibreSection
 from .elements.contact import Circle, Line
 from .snapshot import Model
 from .mesh_check import MeshWarning
-from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, run, trace
+from .storage import FileFormatError, load, save
+from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, resume, run, trace
 from .buckling import Buckling, buckling, imperfect
 from . import plotting
 
@@ -27,4 +28,4 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "plotting", "widgets", "__version__"]
+           "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "FileFormatError", "save", "load", "resume", "plotting", "widgets", "__version__"]

@@ -224,6 +224,7 @@ class Assembly:
     def __getstate__(self) -> dict:
         state = dict(self.__dict__)
         state.pop("_chord_fit", None)         # a native factorisation, rebuilt on use
+        state.pop("_template", None)          # a cache of the pattern's matrix
         return state
 
     # -- set-up -----------------------------------------------------------------

@@ -156,6 +156,9 @@ class Structure:
     (0, 2, 3, 4, 1)
     """
 
+    #: what :func:`largerot.save` writes it as
+    saved_kind = "structure"
+
     def __init__(self) -> None:
         self._xy = _Rows(2, float)                               # node coordinates
         # per element of each table: end nodes and section id

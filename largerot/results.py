@@ -137,6 +137,9 @@ class EquilibriumPath(_Displacements):
         zero at point 0 (NaN when not recorded).
     """
 
+    #: what :func:`largerot.save` writes it as
+    saved_kind = "path"
+
     def __init__(self, structure: Model, free: np.ndarray, load_factor, u_free,
                  iterations, residuals, n_negative, status: str, message: str,
                  critical_points=None, counters=None, extra=None, arc_length=None,

@@ -13,12 +13,19 @@ from ..results import EquilibriumPath, Point
 from .arc_length import ArcLengthStepper, check_options
 from .displacement_control import DisplacementStepper
 from .load_control import AT_LIMIT, LoadStepper
-from .stepper import PathStepper, checked_option
+from ..errors import ModelError
+from ..storage import load, save
+from .events import user_events
+from .stepper import KEEP, PathStepper, checked_option
 
-__all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "run", "iterate", "StepControl"]
+__all__ = ["by_load", "by_displacement", "by_arc_length", "trace", "run", "resume", "iterate",
+           "StepControl"]
 
 #: Steps taken when neither a target, a stop condition nor ``max_steps`` ends the trace.
 DEFAULT_MAX_STEPS = 500
+#: Points between checkpoints of ``trace(..., checkpoint=...)``: a save of a 1,000-element
+#: trace takes a few milliseconds, a point several.
+DEFAULT_CHECKPOINT_EVERY = 10
 
 
 class StepControl:
@@ -149,7 +156,8 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
           max_steps: int | None = None, stop: Callable[[Point], bool] | None = None,
           callback: Callable[[Point], None] | None = None, events=None, tol: float = 1e-8,
           tol_u: float = 1e-6, max_iterations: int = 25,
-          follow: str = "primary") -> EquilibriumPath:
+          follow: str = "primary", checkpoint=None,
+          checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
     """Trace the equilibrium path of a structure.
 
     Parameters
@@ -176,6 +184,12 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
     follow : str
         ``"primary"`` stays on the path through bifurcations; ``"secondary"`` switches
         onto the secondary branch at the first bifurcation (arc-length control only).
+    checkpoint : str or path, optional
+        Save the running trace to this file (:func:`largerot.save`) every
+        ``checkpoint_every`` points and when it ends: a killed process loses at most
+        that many points, and :func:`resume` goes on from the file.
+    checkpoint_every : int
+        Points between checkpoints.
 
     Returns
     -------
@@ -201,7 +215,8 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
         extra["follow"] = follow
     st = control.stepper(structure, tol=tol, tol_u=tol_u, max_iterations=max_iterations,
                          target_load_factor=target_load_factor, events=events, **extra)
-    return run(st, max_steps=max_steps, stop=stop, callback=callback)
+    return run(st, max_steps=max_steps, stop=stop, callback=callback, checkpoint=checkpoint,
+               checkpoint_every=checkpoint_every)
 
 
 def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Point]:
@@ -225,19 +240,73 @@ def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Poin
 
 
 def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
-        callback=None) -> EquilibriumPath:
+        callback=None, checkpoint=None,
+        checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
     """Run a stepper until it ends, ``stop`` says so, or ``max_steps``; return the path.
 
     A KeyboardInterrupt ends the run with status ``"interrupted"`` and the path traced
-    so far; ``stepper.resume()`` then goes on from the last converged point.
+    so far; ``stepper.resume()`` then goes on from the last converged point. With
+    ``checkpoint`` (a file name) the stepper is saved every ``checkpoint_every``
+    points and once more when the run ends (see :func:`trace`).
     """
+    if checkpoint is not None:
+        checkpoint_every = checked_option("checkpoint_every", checkpoint_every, integer=True, lower=1)
+        save(stepper, checkpoint)                # the start: a resume never finds no file
+    since = 0
     try:
         for point in iterate(stepper, max_steps):
             if callback is not None:
                 callback(point)
             if stepper.running and stop is not None and stop(point):
                 stepper.finish("stopped")
+            since += 1
+            if checkpoint is not None and since >= checkpoint_every and stepper.running:
+                save(stepper, checkpoint)
+                since = 0
     except KeyboardInterrupt:
         if stepper.running:
             stepper.finish("interrupted")
+    if checkpoint is not None:
+        save(stepper, checkpoint)
     return stepper.result()
+
+
+def resume(filename, *, max_steps: int | None = None, stop=None, callback=None, events=None,
+           checkpoint=KEEP, checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
+    """Go on with a trace from its checkpoint file (``trace(..., checkpoint=filename)``).
+
+    The stepper is restored as saved — its points, control state (step, direction,
+    target) and material and contact history — and run on: the path is the one an
+    uninterrupted trace gives. A trace that had ended (target reached, a limit, a
+    stop) is returned as it was; one interrupted or out of steps goes on.
+
+    Parameters
+    ----------
+    filename : str or path
+        A checkpoint written by :func:`trace` or ``lr.save(stepper, filename)``.
+    max_steps, stop, callback
+        As for :func:`trace` (functions are code and are not saved: pass them again).
+    events : callable or list of callables
+        The event functions the trace was started with, if any (required then).
+    checkpoint : str, path or None
+        Where to go on saving (default: the same file; None: nowhere).
+    checkpoint_every : int
+        Points between checkpoints.
+    """
+    stepper = load(filename, kind="checkpoint")
+    names = stepper.__dict__.pop("saved_event_names", ())
+    given = user_events(events)
+    if len(given) != len(names):
+        listed = ", ".join(names) if names else "none"
+        raise ModelError(f"The checkpoint {filename} was traced with {len(names)} event "
+                         f"function(s) ({listed}); pass the same to lr.resume(..., events=[...]), "
+                         f"got {len(given)}.")
+    stepper.user_events = given
+    if stepper.status in ("interrupted", "max_steps"):
+        stepper.resume()
+    elif stepper.status != "running":
+        return stepper.result()
+    max_steps = DEFAULT_MAX_STEPS if max_steps is None else max_steps
+    return run(stepper, max_steps=max_steps, stop=stop, callback=callback,
+               checkpoint=filename if checkpoint is KEEP else checkpoint,
+               checkpoint_every=checkpoint_every)

@@ -124,6 +124,9 @@ class PathStepper:
         by root finding (attributes ``terminal`` and ``direction`` as in scipy).
     """
 
+    #: what :func:`largerot.save` writes it as
+    saved_kind = "checkpoint"
+
     def __init__(self, structure, step: float, *, min_step: float | None = None,
                  max_step: float | None = None, tol: float = 1e-8, tol_u: float = 1e-6,
                  max_iterations: int = 25, target_load_factor: float | None = None,
@@ -574,7 +577,16 @@ class PathStepper:
 
     def __getstate__(self) -> dict:
         state = dict(self.__dict__)
-        state["_fact"] = None                        # a cache of SuperLU objects: rebuilt
+        state["_fact"] = None                        # a cache of native factors: rebuilt
+        return state
+
+    def _saved_state(self) -> dict:
+        """The state :func:`largerot.save` writes: the pickled one without the user's
+        event functions (code, not data), whose names are kept so that
+        :func:`largerot.resume` can ask for them again."""
+        state = self.__getstate__()
+        state["user_events"] = ()
+        state["saved_event_names"] = tuple(e.kind for e in self.user_events)
         return state
 
     def result(self) -> EquilibriumPath:
