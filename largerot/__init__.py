@@ -12,6 +12,7 @@ from .elements.contact import Circle, Line
 from .snapshot import Model
 from .mesh_check import MeshWarning
 from .storage import FileFormatError, load, save
+from .sweep import grid, sweep
 from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, resume, run, trace
 from .buckling import Buckling, buckling, imperfect
 from . import plotting
@@ -28,4 +29,4 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "FileFormatError", "save", "load", "resume", "plotting", "widgets", "__version__"]
+           "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]

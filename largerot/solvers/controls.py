@@ -157,7 +157,7 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
           callback: Callable[[Point], None] | None = None, events=None, tol: float = 1e-8,
           tol_u: float = 1e-6, max_iterations: int = 25,
           follow: str = "primary", checkpoint=None,
-          checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
+          checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY, progress: bool = False) -> EquilibriumPath:
     """Trace the equilibrium path of a structure.
 
     Parameters
@@ -190,6 +190,9 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
         that many points, and :func:`resume` goes on from the file.
     checkpoint_every : int
         Points between checkpoints.
+    progress : bool
+        Show a progress bar (``tqdm.auto``: notebooks and terminals) of the points
+        traced, with λ.
 
     Returns
     -------
@@ -216,7 +219,7 @@ def trace(structure: Structure, control: StepControl, *, target_load_factor: flo
     st = control.stepper(structure, tol=tol, tol_u=tol_u, max_iterations=max_iterations,
                          target_load_factor=target_load_factor, events=events, **extra)
     return run(st, max_steps=max_steps, stop=stop, callback=callback, checkpoint=checkpoint,
-               checkpoint_every=checkpoint_every)
+               checkpoint_every=checkpoint_every, progress=progress)
 
 
 def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Point]:
@@ -241,7 +244,7 @@ def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Poin
 
 def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
         callback=None, checkpoint=None,
-        checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
+        checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY, progress: bool = False) -> EquilibriumPath:
     """Run a stepper until it ends, ``stop`` says so, or ``max_steps``; return the path.
 
     A KeyboardInterrupt ends the run with status ``"interrupted"`` and the path traced
@@ -253,8 +256,15 @@ def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
         checkpoint_every = checked_option("checkpoint_every", checkpoint_every, integer=True, lower=1)
         save(stepper, checkpoint)                # the start: a resume never finds no file
     since = 0
+    bar = None
+    if progress:
+        from tqdm.auto import tqdm
+        bar = tqdm(total=max_steps, desc="points", unit="pt")
     try:
         for point in iterate(stepper, max_steps):
+            if bar is not None:
+                bar.update(1)
+                bar.set_postfix_str(f"λ = {point.load_factor:.4g}")
             if callback is not None:
                 callback(point)
             if stepper.running and stop is not None and stop(point):
@@ -266,13 +276,18 @@ def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
     except KeyboardInterrupt:
         if stepper.running:
             stepper.finish("interrupted")
+    finally:
+        if bar is not None:
+            bar.set_postfix_str(f"{stepper.status}, λ = {stepper.lam:.4g}")
+            bar.close()
     if checkpoint is not None:
         save(stepper, checkpoint)
     return stepper.result()
 
 
 def resume(filename, *, max_steps: int | None = None, stop=None, callback=None, events=None,
-           checkpoint=KEEP, checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY) -> EquilibriumPath:
+           checkpoint=KEEP, checkpoint_every: int = DEFAULT_CHECKPOINT_EVERY,
+           progress: bool = False) -> EquilibriumPath:
     """Go on with a trace from its checkpoint file (``trace(..., checkpoint=filename)``).
 
     The stepper is restored as saved — its points, control state (step, direction,
@@ -309,4 +324,4 @@ def resume(filename, *, max_steps: int | None = None, stop=None, callback=None, 
     max_steps = DEFAULT_MAX_STEPS if max_steps is None else max_steps
     return run(stepper, max_steps=max_steps, stop=stop, callback=callback,
                checkpoint=filename if checkpoint is KEEP else checkpoint,
-               checkpoint_every=checkpoint_every)
+               checkpoint_every=checkpoint_every, progress=progress)

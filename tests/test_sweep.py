@@ -1,0 +1,91 @@
+"""Parameter sweeps: the same table serially, on processes and on a Dask cluster;
+failing cases as rows; a stored sweep resumed.
+
+The reference of each check is the serial sweep itself (the executors must not change
+a single number) and the statuses the issue names (common practice, no source).
+"""
+import os
+import sys
+from concurrent.futures import ProcessPoolExecutor
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import largerot as lr
+
+sys.path.insert(0, os.path.dirname(__file__))
+import sweep_cases  # noqa: E402
+
+CASES = lr.grid(rise=[0.15, 0.2, 0.25], segments=[8, 12])
+OPTIONS = dict(max_steps=30)
+
+
+def _numbers(table: pd.DataFrame) -> pd.DataFrame:
+    return table.drop(columns=["wall_time"])
+
+
+def test_grid_is_the_full_factorial_in_order():
+    assert lr.grid(a=[1, 2], b=["x", "y", "z"])[:4] == [
+        {"a": 1, "b": "x"}, {"a": 1, "b": "y"}, {"a": 1, "b": "z"}, {"a": 2, "b": "x"}]
+    assert len(lr.grid(a=[1, 2], b=[3, 4], c=[5, 6, 7])) == 12
+    with pytest.raises(lr.ModelError, match="`a` has no values"):
+        lr.grid(a=[])
+    with pytest.raises(TypeError, match="`a` must be a list"):
+        lr.grid(a=3)
+
+
+def test_serial_process_pool_and_dask_give_the_same_table():
+    distributed = pytest.importorskip("distributed")
+    serial = lr.sweep(sweep_cases.arch, CASES, lr.by_arc_length(), progress=False, **OPTIONS)
+    assert list(serial.columns[:2]) == ["rise", "segments"] and len(serial) == len(CASES)
+    assert (serial["status"] == "max_steps").all()
+    # every arch snaps: its first limit is found, and a higher rise carries more
+    lim = serial.set_index(["rise", "segments"])["first_limit"]
+    assert lim.notna().all() and lim[0.25, 12] > lim[0.15, 12]
+    with ProcessPoolExecutor(2) as ex:
+        pooled = lr.sweep(sweep_cases.arch, CASES, lr.by_arc_length(), executor=ex,
+                          progress=False, **OPTIONS)
+    pd.testing.assert_frame_equal(_numbers(pooled), _numbers(serial))
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  host="127.0.0.1", dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client:
+        dask = lr.sweep(sweep_cases.arch, CASES, lr.by_arc_length(), executor=client,
+                        progress=False, **OPTIONS)
+    pd.testing.assert_frame_equal(_numbers(dask), _numbers(serial))
+
+
+def test_failing_cases_become_rows_and_leave_the_others_alone():
+    cases = [dict(rise=0.2), dict(rise=0.2, trouble="raise"), dict(rise=-1.0),
+             dict(rise=0.2, trouble="slow"), dict(rise=0.25)]
+    table = lr.sweep(sweep_cases.arch_or_trouble, cases, lr.by_arc_length(), progress=False,
+                     case_timeout=1.5, max_steps=40)
+    assert table["status"].tolist() == ["max_steps", "error", "bad parameters", "timeout", "max_steps"]
+    assert "the build function broke" in table.loc[1, "message"]
+    assert "rise" in table.loc[2, "message"]
+    assert "case_timeout" in table.loc[3, "message"]
+    ref = lr.sweep(sweep_cases.arch_or_trouble, [cases[0], cases[4]], lr.by_arc_length(),
+                   progress=False, max_steps=40)
+    np.testing.assert_array_equal(table.loc[[0, 4], "first_limit"], ref["first_limit"])
+
+
+def test_a_stored_sweep_resumes_with_only_the_missing_cases(tmp_path):
+    calls = []
+
+    def build(rise, segments):
+        calls.append(rise)
+        if len(calls) == 3 and not getattr(build, "calm", False):
+            raise KeyboardInterrupt              # the notebook's stop button, mid-sweep
+        return sweep_cases.arch(rise, segments)
+
+    with pytest.raises(KeyboardInterrupt):
+        lr.sweep(build, CASES, lr.by_arc_length(), store=tmp_path, progress=False, **OPTIONS)
+    assert len(list(tmp_path.glob("case-*.json"))) == 2
+    build.calm = True
+    calls.clear()
+    table = lr.sweep(build, CASES, lr.by_arc_length(), store=tmp_path, progress=False, **OPTIONS)
+    assert len(calls) == len(CASES) - 2                    # the two stored ones not rerun
+    full = lr.sweep(sweep_cases.arch, CASES, lr.by_arc_length(), progress=False, **OPTIONS)
+    pd.testing.assert_frame_equal(_numbers(table), _numbers(full), check_dtype=False)
+    path = lr.load(tmp_path / "case-00004.lr")
+    assert path.status == "max_steps" and len(path) == table.loc[4, "points"]
