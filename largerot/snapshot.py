@@ -17,7 +17,9 @@ from functools import cached_property
 
 import numpy as np
 
-__all__ = ["Model"]
+from .errors import ModelError, warn_input
+
+__all__ = ["Model", "check_traceable"]
 
 _TABLES = ("beam", "bar")
 
@@ -172,3 +174,32 @@ class Model:
         cables = f", {nc} cable" if nc else ""
         return (f"Model({self.n_nodes} nodes, {len(self.members)} members: "
                 f"{nb} beam and {nr} bar{cables} elements; frozen)")
+
+
+def check_traceable(model: Model) -> None:
+    """Refuse a model with nothing to solve; warn when it has no load.
+
+    Raises
+    ------
+    ModelError
+        No free DOF (an empty structure, or every DOF fixed).
+
+    Warns
+    -----
+    InputWarning
+        No load at all, or only constant loads: the load factor scales nothing, and
+        every point of a trace is the same equilibrium.
+    """
+    if len(model.assembly.free) == 0:
+        raise ModelError(f"The structure has no free DOF ({model.n_nodes} nodes, all restrained "
+                         "or none at all): nothing to solve.")
+    scaled = (model.F_ref.any() or len(model.followers[0][0]) > 0
+              or len(model.pressures[0][1]) > 0)
+    if scaled:
+        return
+    constant = (model.F_const.any() or len(model.followers[1][0]) > 0
+                or len(model.pressures[1][1]) > 0)
+    what = ("has only constant loads" if constant else "has no load at all")
+    warn_input(f"The structure {what}: the load factor scales nothing, so every point "
+               "of the trace is the same equilibrium. Add a load with s.load(...), "
+               "s.line_load(...) or s.gravity(constant=False).", stacklevel=5)
