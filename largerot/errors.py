@@ -17,6 +17,8 @@ from __future__ import annotations
 
 import math
 import numbers
+import os
+import sys
 import warnings
 
 import numpy as np
@@ -36,9 +38,13 @@ class InputWarning(UserWarning):
     """Input that is legal but probably not what was meant (a trace without load...)."""
 
 
-def warn_input(message: str, stacklevel: int = 3) -> None:
-    """Issue an :class:`InputWarning` (``stacklevel`` counted from the caller)."""
-    warnings.warn(message, InputWarning, stacklevel=stacklevel)
+def warn_input(message: str) -> None:
+    """Issue an :class:`InputWarning` attributed to the first caller outside largerot."""
+    package = os.path.dirname(os.path.abspath(__file__))
+    frame, level = sys._getframe(0), 1
+    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(package):
+        frame, level = frame.f_back, level + 1      # bounded by the depth of the stack
+    warnings.warn(message, InputWarning, stacklevel=level)
 
 
 def is_real(value) -> bool:

@@ -529,7 +529,7 @@ class Structure:
             names = ", ".join(f"node {n} {DOFS[d]}" for n, d in on_fixed[:8])
             more = f" and {len(on_fixed) - 8} more" if len(on_fixed) > 8 else ""
             warn_input(f"Loads on restrained DOFs ({names}{more}) go straight into the supports "
-                       "and move nothing; load a free DOF, or release the support.", stacklevel=4)
+                       "and move nothing; load a free DOF, or release the support.")
 
     def copy(self) -> "Structure":
         """An independent copy: later edits of either do not reach the other."""

@@ -202,4 +202,4 @@ def check_traceable(model: Model) -> None:
     what = ("has only constant loads" if constant else "has no load at all")
     warn_input(f"The structure {what}: the load factor scales nothing, so every point "
                "of the trace is the same equilibrium. Add a load with s.load(...), "
-               "s.line_load(...) or s.gravity(constant=False).", stacklevel=5)
+               "s.line_load(...) or s.gravity(constant=False).")
