@@ -187,19 +187,16 @@ def check_traceable(model: Model) -> None:
     Warns
     -----
     InputWarning
-        No load at all, or only constant loads: the load factor scales nothing, and
-        every point of a trace is the same equilibrium.
+        No load at all: every point of a trace is the same equilibrium. (Constant
+        loads alone are a legal use: the first point settles under them.)
     """
     if len(model.assembly.free) == 0:
         raise ModelError(f"The structure has no free DOF ({model.n_nodes} nodes, all restrained "
                          "or none at all): nothing to solve.")
-    scaled = (model.F_ref.any() or len(model.followers[0][0]) > 0
-              or len(model.pressures[0][1]) > 0)
-    if scaled:
-        return
-    constant = (model.F_const.any() or len(model.followers[1][0]) > 0
-                or len(model.pressures[1][1]) > 0)
-    what = ("has only constant loads" if constant else "has no load at all")
-    warn_input(f"The structure {what}: the load factor scales nothing, so every point "
-               "of the trace is the same equilibrium. Add a load with s.load(...), "
-               "s.line_load(...) or s.gravity(constant=False).")
+    loaded = (model.F_ref.any() or model.F_const.any()
+              or any(len(nodes) for nodes, _ in model.followers)
+              or any(len(elements) for _, elements, _ in model.pressures))
+    if not loaded:
+        warn_input("The structure has no load at all: every point of the trace is the same "
+                   "equilibrium at rest. Add a load with s.load(...), s.line_load(...) or "
+                   "s.gravity(...).")
