@@ -24,7 +24,6 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
 
 from .errors import ModelError, checked_integer, checked_number
 from .model import Structure

@@ -17,7 +17,6 @@ Who owns what
 from __future__ import annotations
 
 import logging
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
