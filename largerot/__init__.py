@@ -3,7 +3,7 @@
 Build a :class:`Structure`, choose a step control and :func:`trace` its
 equilibrium path.
 """
-from .errors import ModelError
+from .errors import InputWarning, ModelError
 from .model import DOFS, Member, Structure
 from .results import CriticalPoint, EquilibriumPath, Event, Point
 from .sections import Section
@@ -27,6 +27,6 @@ def __getattr__(name):
 
 __version__ = "0.1.0"
 
-__all__ = ["ModelError", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
+__all__ = ["ModelError", "InputWarning", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
            "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]

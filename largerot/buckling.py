@@ -61,7 +61,7 @@ import numpy as np
 import scipy.linalg as sla
 import scipy.sparse.linalg as spla
 
-from .errors import ModelError
+from .errors import ModelError, checked_integer, checked_number
 from .linalg import SingularTangent, factorize
 from .model import Structure
 
@@ -95,9 +95,10 @@ class Buckling:
 
     def perturbed(self, i: int, amplitude: float) -> Structure:
         """A new structure imperfect by ``amplitude`` times mode ``i`` (see :func:`imperfect`)."""
-        if not -len(self) <= int(i) < len(self):
-            raise IndexError(f"Mode index {i!r} out of range: {len(self)} modes were computed.")
-        return imperfect(self.structure, self.modes[int(i)], amplitude)
+        i = checked_integer("", "i", i)
+        if not -len(self) <= i < len(self):
+            raise ModelError(f"Mode index {i!r} out of range: {len(self)} modes were computed.")
+        return imperfect(self.structure, self.modes[i], amplitude)
 
 
 def _unit_mode(phi_full: np.ndarray) -> np.ndarray:
@@ -161,10 +162,10 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     >>> print(round(float(lr.buckling(s, modes=1).load_factors[0]) / (math.pi**2 / 4), 4))
     0.75
     """
-    if isinstance(modes, bool) or not isinstance(modes, (int, np.integer)) or modes < 1:
-        raise ValueError(f"`modes` must be a positive integer, got {modes!r}.")
+    if checked_integer("", "modes", modes) < 1:
+        raise ModelError(f"`modes` must be a positive integer, got {modes!r}.")
     if not hasattr(structure, "snapshot"):
-        raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
+        raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
     asm = structure.snapshot().assembly        # stateless: the virgin structure, always
     rest = np.zeros(asm.n_dof)
     F_ref, F_const = asm.external(rest)                      # follower loads as at rest
@@ -274,16 +275,17 @@ def imperfect(structure: Structure, mode: np.ndarray, amplitude: float) -> Struc
     ([0.01, 1.0], [0.0, 1.0])
     """
     if not isinstance(structure, Structure):
-        raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
-    mode = np.asarray(mode, dtype=float)
+        raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
+    mode = np.asarray(mode)
+    if mode.dtype.kind not in "iuf":
+        raise TypeError(f"`mode` must be an array of numbers, got dtype {mode.dtype}.")
+    mode = mode.astype(float)
     if mode.shape != (3 * structure.n_nodes,):
-        raise ValueError(f"`mode` must be a full DOF vector of shape ({3 * structure.n_nodes},), "
+        raise ModelError(f"`mode` must be a full DOF vector of shape ({3 * structure.n_nodes},), "
                          f"got shape {mode.shape}.")
-    amplitude = float(amplitude)
-    if not np.isfinite(amplitude):
-        raise ValueError(f"`amplitude` must be finite, got {amplitude!r}.")
+    amplitude = checked_number("", "amplitude", amplitude)
     t = mode.reshape(-1, 3)[:, :2]
     big = float(np.hypot(t[:, 0], t[:, 1]).max())
     if not np.isfinite(big) or big == 0.0:
-        raise ValueError("`mode` has no finite, non-zero translation to seed an imperfection with.")
+        raise ModelError("`mode` has no finite, non-zero translation to seed an imperfection with.")
     return structure.moved(structure.xy + amplitude * t / big)

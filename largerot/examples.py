@@ -24,8 +24,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
 
+from .errors import ModelError, checked_integer, checked_number
 from .model import Structure
 from .sections import Section
 
@@ -66,18 +66,25 @@ class Scenario:
 
 
 def _positive(name: str, value) -> float:
-    v = float(value)
-    if not (math.isfinite(v) and v > 0.0):
-        raise ValueError(f"`{name}` must be a positive number, got {value!r}.")
+    v = checked_number("", name, value)          # TypeError for a string
+    if not v > 0.0:
+        raise ModelError(f"`{name}` must be a positive number, got {value!r}.")
     return v
 
 
 def _segments(value, even: bool = False) -> int:
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
-        raise ValueError(f"`segments` must be a positive integer, got {value!r}.")
-    if even and value % 2:
-        raise ValueError(f"`segments` must be even (a node at mid-span), got {value!r}.")
-    return int(value)
+    n = checked_integer("", "segments", value)   # TypeError for a string, 2.5 refused
+    if n < 1:
+        raise ModelError(f"`segments` must be a positive integer, got {value!r}.")
+    if even and n % 2:
+        raise ModelError(f"`segments` must be even (a node at mid-span), got {value!r}.")
+    return n
+
+
+def _choice(name: str, value, choices: tuple) -> str:
+    if not isinstance(value, str) or value not in choices:
+        raise ModelError(f"`{name}` must be {' or '.join(map(repr, choices))}, got {value!r}.")
+    return value
 
 
 def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4) -> Scenario:
@@ -110,7 +117,7 @@ def inclined_cantilever(angle: float = 30.0, length: float = 4.0, load: float = 
     the everyday idiom that must trace with default options. Exact curve: the
     elastica (:func:`largerot.closed_form.elastica_tip_load`) turned by ``angle``.
     """
-    L, ang = _positive("length", length), math.radians(float(angle))
+    L, ang = _positive("length", length), math.radians(checked_number("", "angle", angle))
     sec = Section.tube(E=210e9, diameter=0.1, wall=0.005)
     s = Structure()
     base, tip = s.node(0.0, 0.0), s.node(L * math.cos(ang), L * math.sin(ang))
@@ -143,10 +150,8 @@ def toggle_frame(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4,
     w = v + P/hanger.
     """
     a, h, EA = _positive("half_span", half_span), _positive("rise", rise), _positive("EA", EA)
-    k_g, k_s = float(spring), _positive("hanger", hanger)
-    Lh = _positive("hanger_length", hanger_length)
-    if not (math.isfinite(k_g) and k_g >= 0.0):
-        raise ValueError(f"`spring` must be a non-negative number, got {spring!r}.")
+    k_g = checked_number("", "spring", spring, nonnegative=True)
+    k_s, Lh = _positive("hanger", hanger), _positive("hanger_length", hanger_length)
     s = Structure()
     left, apex, right = s.node(-a, 0.0), s.node(0.0, h), s.node(a, 0.0)
     load = s.node(0.0, h - Lh)
@@ -175,10 +180,9 @@ def toggle_frame(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4,
 def _arch(rise, span, segments, support, width, depth, E, load, stop_share, kind):
     rise, span = _positive("rise", rise), _positive("span", span)
     n = _segments(segments, even=True)
-    if support not in ("pinned", "clamped"):
-        raise ValueError(f"`support` must be 'pinned' or 'clamped', got {support!r}.")
+    _choice("support", support, ("pinned", "clamped"))
     if rise >= 0.5 * span:
-        raise ValueError(f"`rise` must be less than half the span ({0.5 * span!r}), got {rise!r}.")
+        raise ModelError(f"`rise` must be less than half the span ({0.5 * span!r}), got {rise!r}.")
     sec = Section.rectangle(E=_positive("E", E), width=_positive("width", width),
                             depth=_positive("depth", depth))
     P = _positive("load", load)
@@ -252,8 +256,7 @@ def column(kind: str = "cantilever", length: float = 3.0, segments: int = 10,
     a tip rotation of 2 rad, so that with ``follow="secondary"`` it runs well up the
     post-buckled branch.
     """
-    if kind not in ("cantilever", "pinned"):
-        raise ValueError(f"`kind` must be 'cantilever' or 'pinned', got {kind!r}.")
+    _choice("kind", kind, ("cantilever", "pinned"))
     L = _positive("length", length)
     n = _segments(segments)
     sec = Section.tube(E=_positive("E", E), diameter=_positive("diameter", diameter),

@@ -16,6 +16,7 @@ from matplotlib.collections import LineCollection
 from matplotlib.patches import FancyArrowPatch
 
 from . import plotting
+from .errors import ModelError, checked_integer, checked_number
 from .results import EquilibriumPath, member_lines
 
 __all__ = ["export_animation", "save_figure", "animation_points", "render_frames"]
@@ -32,11 +33,20 @@ def animation_points(n_points: int, frames: int) -> np.ndarray:
     >>> animation_points(11, 3).tolist()
     [0, 5, 10]
     """
-    if not 1 <= int(frames) <= MAX_ANIMATION_FRAMES:
-        raise ValueError(f"`frames` must be an integer from 1 to {MAX_ANIMATION_FRAMES}, got {frames!r}.")
+    if not 1 <= checked_integer("", "frames", frames) <= MAX_ANIMATION_FRAMES:
+        raise ModelError(f"`frames` must be an integer from 1 to {MAX_ANIMATION_FRAMES}, got {frames!r}.")
     if n_points < 1:
-        raise ValueError("The path has no points to animate.")
+        raise ModelError("The path has no points to animate.")
     return np.unique(np.round(np.linspace(0, n_points - 1, min(int(frames), n_points))).astype(int))
+
+
+def _checked(path, node, dof, scale=1.0) -> None:
+    """The arguments every export shares: a path, a known node and DOF, a finite scale."""
+    if not isinstance(path, EquilibriumPath):
+        raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
+    if node is not None or dof is not None:
+        path._column(0 if node is None else node, "ux" if dof is None else dof)
+    checked_number("", "scale", scale)
 
 
 def render_frames(path: EquilibriumPath, points, node=None, dof=None, figsize=(8, 3.6),
@@ -99,12 +109,12 @@ def export_animation(path: EquilibriumPath, filename, frames: int = 60, fps: flo
     Each frame shows the deformed shape beside the path with the point marked.
     Returns the path points used, shape (n_frames,).
     """
+    _checked(path, node, dof, scale)
     fn = pathlib.Path(filename)
     kind = fn.suffix.lower()
     if kind not in (".gif", ".html", ".htm"):
-        raise ValueError(f"`filename` must end in .gif or .html, got {str(filename)!r}.")
-    if not fps > 0:
-        raise ValueError(f"`fps` must be positive, got {fps!r}.")
+        raise ModelError(f"`filename` must end in .gif or .html, got {str(filename)!r}.")
+    checked_number("", "fps", fps, positive=True)
     points = animation_points(len(path), frames)
     images = list(render_frames(path, points, node, dof, figsize, dpi, scale))
     if kind == ".gif":
@@ -163,6 +173,8 @@ def save_figure(path: EquilibriumPath, filename, i: int = -1, node: int | None =
 
     ``options`` go to :func:`largerot.plotting.shape_path_figure` (``figsize``, ``dpi``).
     """
+    _checked(path, node, dof)
+    i = path._index(i)
     fig = plotting.shape_path_figure(path, i, node, dof, **options)
     fig.savefig(filename)
     return pathlib.Path(filename)

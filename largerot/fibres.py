@@ -38,7 +38,8 @@ from typing import NamedTuple, Sequence
 
 import numpy as np
 
-from .errors import ModelError, checked_number
+from .errors import ModelError, checked_integer, checked_number
+from .sections import check_stiffness
 from .materials import Bilinear, MaterialState, initial_state, return_map
 
 __all__ = ["FibreSection", "FibreTable", "SectionResponse", "response", "stack",
@@ -120,9 +121,10 @@ def yielded_fraction(state: MaterialState, dA) -> np.ndarray:
 
 # -- layouts ------------------------------------------------------------------
 def _count(name: str, n, minimum: int) -> int:
-    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < minimum:
+    v = checked_integer("", name, n)             # TypeError for a string, 2.5 refused
+    if v < minimum:
         raise ModelError(f"`{name}` must be an integer of at least {minimum}, got {n!r}.")
-    return int(n)
+    return v
 
 
 def _positive(name: str, value) -> float:
@@ -185,14 +187,22 @@ class FibreSection:
         mat = Bilinear(self.E, self.fy, self.H)            # validates E, fy, H
         for name in ("E", "fy", "H"):
             object.__setattr__(self, name, getattr(mat, name))
-        y = np.array(self.y, dtype=float)
-        dA = np.array(self.dA, dtype=float)
+        for name in ("depth", "W", "Z", "density"):
+            object.__setattr__(self, name, checked_number("FibreSection", name, getattr(self, name),
+                                                          nonnegative=True))
+        y, dA = (np.asarray(v) for v in (self.y, self.dA))
+        if y.dtype.kind not in "iuf" or dA.dtype.kind not in "iuf":
+            raise TypeError(f"Fibre `y` and `dA` must be arrays of numbers, got dtypes "
+                            f"{y.dtype} and {dA.dtype}.")
+        y = np.array(y, dtype=float)
+        dA = np.array(dA, dtype=float)
         if y.ndim != 1 or y.shape != dA.shape or len(y) == 0:
             raise ModelError(f"Fibre `y` and `dA` must be 1-D arrays of one length, got shapes "
                              f"{y.shape} and {dA.shape}.")
         if not (np.all(np.isfinite(y)) and np.all(dA >= 0.0)) or dA.sum() <= 0.0:
             raise ModelError("Fibre areas `dA` must be non-negative with a positive sum, "
                              "and positions `y` finite.")
+        check_stiffness("FibreSection", self.E, float(dA.sum()), float(np.sum(y**2 * dA)))
         y.setflags(write=False)
         dA.setflags(write=False)
         object.__setattr__(self, "y", y)

@@ -100,7 +100,7 @@ def yielding(trial: MaterialState, committed: MaterialState) -> np.ndarray:
 
 
 def _check(name: str, value, *, positive: bool) -> float:
-    return checked_number("Material", name, value, positive=positive)
+    return checked_number("Material", name, value, positive=positive, nonnegative=not positive)
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ from functools import cached_property
 
 import numpy as np
 
-from .errors import ModelError
+from .errors import ModelError, checked_integer, checked_node, is_real, warn_input
 from .geometry import hanging_chain
 from .sections import Section
 from .snapshot import Model
@@ -26,6 +26,8 @@ _LOAD_DOFS = {"fx": 0, "fy": 1, "mz": 2}
 
 def dof_index(dof: str) -> int:
     """Position (0, 1, 2) of a DOF name within a node."""
+    if not isinstance(dof, str):
+        raise TypeError(f"A DOF is named by a string, one of {', '.join(DOFS)}; got {dof!r}.")
     try:
         return DOFS.index(dof)
     except ValueError:
@@ -128,14 +130,47 @@ def _spread(f: np.ndarray, m: Member, q: np.ndarray, lengths: dict) -> None:
             np.add.at(f, 3 * end + k, 0.5 * q[k] * L0)
 
 
+#: Largest coordinate magnitude accepted: the kernels form L² and L³ of element
+#: lengths and the round-off level |K|·|x|; (1e100)³ = 1e300 still fits a double, a
+#: node at 1e300 would give inf and a singular-looking tangent.
+MAX_COORDINATE = 1e100
+
+
 def _finite(name: str, value) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise ModelError(f"{name} must be a number, got {value!r}.") from None
+    if not is_real(value):          # no string-to-number conversion
+        raise TypeError(f"{name} must be a number, got {value!r}.")
+    v = float(value)
     if not math.isfinite(v):
         raise ModelError(f"{name} must be finite, got {value!r}.")
     return v
+
+
+def _flag(name: str, value) -> bool:
+    if not isinstance(value, (bool, np.bool_)):
+        raise TypeError(f"`{name}` must be True or False, got {value!r}.")
+    return bool(value)
+
+
+def _coordinate(name: str, value) -> float:
+    v = _finite(name, value)
+    if abs(v) > MAX_COORDINATE:
+        raise ModelError(f"{name} = {value!r} is beyond ±{MAX_COORDINATE:g}: lengths, their "
+                         "squares and cubes would overflow; use units of a sensible size.")
+    return v
+
+
+def _check_section(section, mid: int) -> None:
+    from .fibres import FibreSection     # a beam may yield: its section has fibres
+    if not isinstance(section, (Section, FibreSection)):
+        raise TypeError(f"Member {mid}: `section` must be a largerot.Section or "
+                        f"largerot.FibreSection, got {section!r}.")
+
+
+def _segments(segments, mid: int) -> int:
+    n = checked_integer(f"Member {mid}:", "segments", segments)
+    if n < 1:
+        raise ModelError(f"Member {mid}: `segments` must be a positive integer, got {segments!r}.")
+    return n
 
 
 class Structure:
@@ -195,21 +230,17 @@ class Structure:
     def node(self, x: float, y: float) -> int:
         """Add a node at (x, y) and return its id."""
         n = len(self._xy)
-        self._xy.extend((_finite(f"Node {n} x", x), _finite(f"Node {n} y", y)))
+        self._xy.extend((_coordinate(f"Node {n} x", x), _coordinate(f"Node {n} y", y)))
         self._changed()
         return n
 
     def _check_node(self, n, what: str) -> int:
-        if isinstance(n, (bool, np.bool_)) or not isinstance(n, (int, np.integer)):
-            raise ModelError(f"{what}: node id must be an integer, got {n!r}.")
-        if not 0 <= n < len(self._xy):
-            raise ModelError(f"{what}: unknown node {n!r} (the structure has {len(self._xy)} nodes).")
-        return int(n)
+        return checked_node(n, len(self._xy), what)
 
     def _section_id(self, section: Section) -> int:
         from .fibres import FibreSection     # a beam may yield: its section has fibres
         if not isinstance(section, (Section, FibreSection)):
-            raise ModelError(f"Expected a largerot.Section or largerot.FibreSection, got {section!r}.")
+            raise TypeError(f"Expected a largerot.Section or largerot.FibreSection, got {section!r}.")
         for i, s in enumerate(self._sections):
             if s is section:
                 return i
@@ -221,8 +252,8 @@ class Structure:
         mid = len(self.members)
         a = self._check_node(a, f"Member {mid}")
         b = self._check_node(b, f"Member {mid}")
-        if isinstance(segments, bool) or not isinstance(segments, (int, np.integer)) or segments < 1:
-            raise ModelError(f"Member {mid}: `segments` must be a positive integer, got {segments!r}.")
+        _check_section(section, mid)
+        segments = _segments(segments, mid)
         if a == b:
             raise ModelError(f"Member {mid} (nodes {a}→{b}) joins a node to itself.")
         pa, pb = np.array(self._xy[a]), np.array(self._xy[b])
@@ -292,6 +323,9 @@ class Structure:
             l0 = chord·EA/(EA + T).
         """
         mid = len(self.members)
+        _check_section(section, mid)
+        if segments is not None:
+            segments = _segments(segments, mid)
         if segments is None:
             sags = unstretched_length is not None and pretension is None
             segments = 10 if sags or section.density > 0.0 else 1
@@ -310,14 +344,13 @@ class Structure:
             L = _finite(f"Member {mid} unstretched_length", unstretched_length)
             if L <= 0.0:
                 raise ModelError(f"Member {mid}: `unstretched_length` must be positive, got {unstretched_length!r}.")
-            if L > chord > 0.0 and isinstance(segments, (int, np.integer)) and segments > 1:
+            if L > chord > 0.0 and segments > 1:
                 down = self._gravity[1:3] if self._gravity else (0.0, -1.0)
                 try:
                     points = hanging_chain(self._xy[a], self._xy[b], L, int(segments), down)
                 except ModelError as exc:
                     raise ModelError(f"Member {mid} (nodes {a}→{b}): {exc}") from None
-        seg = segments if isinstance(segments, (int, np.integer)) and segments >= 1 else 1
-        return self._member("cable", a, b, section, segments, points=points, L0=L / seg)
+        return self._member("cable", a, b, section, segments, points=points, L0=L / segments)
 
     def gravity(self, g: float = 9.81, direction=(0.0, -1.0), constant: bool = True) -> None:
         """Self-weight of every member whose section has a density.
@@ -330,12 +363,14 @@ class Structure:
         Calling it again replaces the earlier gravity.
         """
         g = _finite("Gravity g", g)
+        if isinstance(direction, str) or not hasattr(direction, "__len__") or len(direction) != 2:
+            raise TypeError(f"Gravity `direction` must be a pair (dx, dy), got {direction!r}.")
         d = np.array([_finite("Gravity direction x", direction[0]),
                       _finite("Gravity direction y", direction[1])])
         n = float(np.hypot(*d))
         if g < 0.0 or n == 0.0:
             raise ModelError(f"Gravity needs g ≥ 0 and a non-zero direction, got g={g!r}, direction={tuple(direction)!r}.")
-        self._gravity = (g, d[0] / n, d[1] / n, bool(constant))
+        self._gravity = (g, d[0] / n, d[1] / n, _flag("constant", constant))
         self._changed()
 
     def line_load(self, member, qx: float = 0.0, qy: float = 0.0, *, normal: float = 0.0,
@@ -358,13 +393,14 @@ class Structure:
         m = self._get_member(member)
         vals = [_finite(f"Line load {k} on member {m.id}", v)
                 for k, v in (("qx", qx), ("qy", qy), ("normal", normal), ("tangential", tangential))]
-        self._line_loads.append((m.id, *vals, bool(constant)))
+        self._line_loads.append((m.id, *vals, _flag("constant", constant)))
         self._changed()
 
     def _get_member(self, member) -> Member:
         mid = member.id if isinstance(member, Member) else member
-        if isinstance(mid, (bool, np.bool_)) or not isinstance(mid, (int, np.integer)) \
-                or not 0 <= mid < len(self.members):
+        if isinstance(mid, (bool, np.bool_)) or not isinstance(mid, (int, np.integer)):
+            raise TypeError(f"A member is given as a Member or its integer id, got {member!r}.")
+        if not 0 <= mid < len(self.members):
             raise ModelError(f"Unknown member {member!r} (the structure has {len(self.members)} members).")
         return self.members[int(mid)]
 
@@ -418,6 +454,7 @@ class Structure:
         Loads on the same node and DOF add up.
         """
         node = self._check_node(node, "load")
+        constant, follower = _flag("constant", constant), _flag("follower", follower)
         if follower:
             if _finite(f"Load mz on node {node}", mz) != 0.0:
                 raise ModelError(f"Load on node {node}: a follower load is a force; give its moment separately.")
@@ -436,6 +473,7 @@ class Structure:
     def spring(self, node: int, dof: str, stiffness: float) -> None:
         """Attach a linear spring between a node's DOF and the ground."""
         node = self._check_node(node, "spring")
+        dof_index(dof)
         k = _finite(f"Spring stiffness at node {node} {dof}", stiffness)
         if k <= 0.0:
             raise ModelError(f"Spring stiffness at node {node} {dof} must be positive, got {stiffness!r}.")
@@ -457,6 +495,7 @@ class Structure:
         return snap[1]
 
     def _build_snapshot(self) -> Model:
+        self._warn_fixed_loads()
         xy = self._xy.array()
         tables = {k: v.array() for k, v in self._elements.items()}
         bar_nodes = tables["bar"][:, :2]
@@ -484,6 +523,17 @@ class Structure:
             contact_obstacle=np.array([contact_obstacles.index(o) for _, o in self._contacts],
                                       dtype=np.int64))
 
+    def _warn_fixed_loads(self) -> None:
+        """An InputWarning for nodal loads on restrained DOFs: the support takes them."""
+        on_fixed = sorted({(n, d) for n, d, _ in self._loads if (n, d) in self._fixed}
+                          | {(n, d) for (n, _), f in self._followers.items()
+                             for d in (0, 1) if f[d] and (n, 0) in self._fixed and (n, 1) in self._fixed})
+        if on_fixed:
+            names = ", ".join(f"node {n} {DOFS[d]}" for n, d in on_fixed[:8])
+            more = f" and {len(on_fixed) - 8} more" if len(on_fixed) > 8 else ""
+            warn_input(f"Loads on restrained DOFs ({names}{more}) go straight into the supports "
+                       "and move nothing; load a free DOF, or release the support.")
+
     def copy(self) -> "Structure":
         """An independent copy: later edits of either do not reach the other."""
         return copy.deepcopy(self)
@@ -497,9 +547,10 @@ class Structure:
         xy = np.asarray(xy, dtype=float)
         if xy.shape != (self.n_nodes, 2):
             raise ModelError(f"`xy` must have shape ({self.n_nodes}, 2), got {xy.shape}.")
-        bad = np.flatnonzero(~np.isfinite(xy).all(axis=1))
+        bad = np.flatnonzero(~(np.abs(xy) <= MAX_COORDINATE).all(axis=1))
         if len(bad):
-            raise ModelError(f"Node {int(bad[0])} would move to a non-finite position {xy[bad[0]].tolist()}.")
+            raise ModelError(f"Node {int(bad[0])} would move to a non-finite position "
+                             f"{xy[bad[0]].tolist()} (or one beyond ±{MAX_COORDINATE:g}).")
         new = self.copy()
         new._xy = _Rows.of(xy)
         new._changed()

@@ -5,6 +5,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .errors import ModelError, checked_integer, checked_node
 from .elements import beam as beam_kernel
 from .model import DOFS, dof_index
 from .snapshot import Model
@@ -73,9 +74,8 @@ class _Displacements:
     structure: Model
 
     def _column(self, node: int, dof: str) -> int:
-        if not 0 <= int(node) < self.structure.n_nodes:
-            raise IndexError(f"Unknown node {node!r} (the model has {self.structure.n_nodes} nodes).")
-        return 3 * int(node) + dof_index(dof)
+        node = checked_node(node, self.structure.n_nodes, "displacement")
+        return 3 * node + dof_index(dof)
 
 
 class Point(_Displacements):
@@ -148,7 +148,8 @@ class EquilibriumPath(_Displacements):
         self.status_code = int(status_code)
         self.free = np.asarray(free)
         self.load_factor = np.asarray(load_factor, dtype=float)
-        self._u_free = np.asarray(u_free, dtype=float).reshape(len(self.load_factor), -1)
+        # width given, so that a path of zero points has a shape too
+        self._u_free = np.asarray(u_free, dtype=float).reshape(len(self.load_factor), len(self.free))
         self.iterations = np.asarray(iterations, dtype=int)
         self.residuals = list(residuals)
         self.n_negative = np.asarray(n_negative, dtype=int)
@@ -203,8 +204,16 @@ class EquilibriumPath(_Displacements):
             return self._u_free[:, j].copy()
         return np.zeros(len(self))
 
+    def _index(self, i) -> int:
+        """Point ``i`` as an index in 0..n_points−1 (negative counts from the end)."""
+        i = checked_integer("", "i", i)
+        if not -len(self) <= i < len(self):
+            raise ModelError(f"Point index {i} is out of range: the path has {len(self)} points"
+                             + (f" (0..{len(self) - 1}, or negative from the end)." if len(self) else "."))
+        return i % len(self)
+
     def point(self, i: int) -> Point:
-        i = range(len(self))[i]
+        i = self._index(i)
         return Point(self.structure, i, self.load_factor[i], self.u[i], int(self.iterations[i]))
 
     def __getitem__(self, i: int) -> Point:
@@ -224,7 +233,8 @@ class EquilibriumPath(_Displacements):
             ``"beam"``: shape (n_beam_elements, n_sub, 2), the cubic deflected curves;
             ``"bar"``: shape (n_bar_elements, 2, 2), straight chords.
         """
-        u = self.u[range(len(self))[i]]
+        u = self.u[self._index(i)]
+        n_sub = checked_integer("", "n_sub", n_sub, lower=2)
         return member_lines(self.structure, u, n_sub)
 
     # -- member forces --------------------------------------------------------------
@@ -243,7 +253,7 @@ class EquilibriumPath(_Displacements):
         """
         asm = self.structure.assembly
         if i is not None:
-            i = range(len(self))[i]
+            i = self._index(i)
             return asm.element_forces(self.u[i], self._record(i))
         each = [asm.element_forces(u, self._record(j)) for j, u in enumerate(self.u)]
         return {k: {name: np.array([f[k][name] for f in each]) for name in each[0][k]}
@@ -260,7 +270,7 @@ class EquilibriumPath(_Displacements):
         the loads applied there.
         """
         asm = self.structure.assembly
-        i = range(len(self))[i]
+        i = self._index(i)
         u = self.u[i]
         f = asm.internal_force(u, self._record(i))
         F_ref, F_const = asm.external(u)

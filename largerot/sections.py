@@ -9,8 +9,16 @@ from .errors import ModelError, checked_number
 __all__ = ["Section"]
 
 
+def check_stiffness(owner: str, E: float, A: float, I: float) -> None:
+    """Refuse a section whose EA or EI is not a finite float (1e300·1e10 = inf)."""
+    for name, factor in (("EA", A), ("EI", I)):
+        if not math.isfinite(E * factor):
+            raise ModelError(f"{owner} stiffness {name} = {E!r}·{factor!r} overflows double "
+                             "precision (inf); use consistent units of a sensible size.")
+
+
 def _check(name: str, value, *, positive: bool) -> float:
-    return checked_number("Section", name, value, positive=positive)
+    return checked_number("Section", name, value, positive=positive, nonnegative=not positive)
 
 
 @dataclass(frozen=True)
@@ -55,6 +63,7 @@ class Section:
             object.__setattr__(self, "fy", _check("fy", self.fy, positive=True))
         if self.depth is not None:
             object.__setattr__(self, "depth", _check("depth", self.depth, positive=True))
+        check_stiffness("Section", self.E, self.A, self.I)
 
     @classmethod
     def tube(cls, E: float, diameter: float, wall: float, **extra) -> "Section":

@@ -17,7 +17,9 @@ from functools import cached_property
 
 import numpy as np
 
-__all__ = ["Model"]
+from .errors import ModelError, warn_input
+
+__all__ = ["Model", "check_traceable"]
 
 _TABLES = ("beam", "bar")
 
@@ -172,3 +174,29 @@ class Model:
         cables = f", {nc} cable" if nc else ""
         return (f"Model({self.n_nodes} nodes, {len(self.members)} members: "
                 f"{nb} beam and {nr} bar{cables} elements; frozen)")
+
+
+def check_traceable(model: Model) -> None:
+    """Refuse a model with nothing to solve; warn when it has no load.
+
+    Raises
+    ------
+    ModelError
+        No free DOF (an empty structure, or every DOF fixed).
+
+    Warns
+    -----
+    InputWarning
+        No load at all: every point of a trace is the same equilibrium. (Constant
+        loads alone are a legal use: the first point settles under them.)
+    """
+    if len(model.assembly.free) == 0:
+        raise ModelError(f"The structure has no free DOF ({model.n_nodes} nodes, all restrained "
+                         "or none at all): nothing to solve.")
+    loaded = (model.F_ref.any() or model.F_const.any()
+              or any(len(nodes) for nodes, _ in model.followers)
+              or any(len(elements) for _, elements, _ in model.pressures))
+    if not loaded:
+        warn_input("The structure has no load at all: every point of the trace is the same "
+                   "equilibrium at rest. Add a load with s.load(...), s.line_load(...) or "
+                   "s.gravity(...).")

@@ -66,7 +66,7 @@ def test_imperfect_gives_new_structure_and_euler_amplification():
 def test_imperfection_errors():
     sc = column("pinned")
     res = lr.buckling(sc.structure, modes=1)
-    with pytest.raises(IndexError, match="Mode index 3 out of range: 1 modes were computed"):
+    with pytest.raises(lr.ModelError, match="Mode index 3 out of range: 1 modes were computed"):
         res.perturbed(3, 0.01)
     with pytest.raises(ValueError, match=r"`mode` must be a full DOF vector of shape \(33,\)"):
         lr.imperfect(sc.structure, np.ones(5), 0.01)

@@ -48,7 +48,7 @@ from typing import NamedTuple, Sequence
 
 import numpy as np
 
-from ..errors import ModelError
+from ..errors import ModelError, checked_number
 
 __all__ = ["Line", "Circle", "ObstacleTable", "Gap", "ContactResponse", "table", "gap",
            "response", "updated_multipliers", "converged", "violation", "event_value",
@@ -69,7 +69,10 @@ MAX_UPDATES = 20
 
 
 def _vector(name: str, value) -> np.ndarray:
-    v = np.asarray(value, dtype=float)
+    v = np.asarray(value)
+    if v.dtype.kind not in "iuf":               # no string-to-number conversion
+        raise TypeError(f"Obstacle `{name}` must be a pair of numbers, got {value!r}.")
+    v = v.astype(float)
     if v.shape != (2,) or not np.all(np.isfinite(v)):
         raise ModelError(f"Obstacle `{name}` must be a finite 2-vector, got {value!r}.")
     return v
@@ -100,9 +103,7 @@ class Circle:
 
     def __post_init__(self) -> None:
         c = _vector("centre", self.centre)
-        r = float(self.radius)
-        if not np.isfinite(r) or r <= 0.0:
-            raise ModelError(f"Obstacle `radius` must be a finite positive number, got {self.radius!r}.")
+        r = checked_number("Obstacle", "radius", self.radius, positive=True)
         object.__setattr__(self, "centre", tuple(c))
         object.__setattr__(self, "radius", r)
 

@@ -58,7 +58,7 @@ import logging
 
 import numpy as np
 
-from ..errors import ModelError
+from ..errors import ModelError, checked_integer, is_real
 from .constraints import LinearisedConstraint, Metric, PlaneConstraint, QuadraticConstraint
 from .newton import NewtonResult
 from .stepper import MAX_HALVINGS, PathStepper
@@ -332,30 +332,33 @@ class ArcLengthStepper(PathStepper):
 
 def check_options(step, constraint, psi, desired_iterations, min_step, max_step,
                   branch_sign) -> float:
-    """Validate the arc-length options; return ψ with its default filled in."""
-    if constraint not in CONSTRAINTS:
-        raise ValueError(f"`constraint` must be one of {', '.join(map(repr, CONSTRAINTS))}, "
+    """Validate the arc-length options; return ψ with its default filled in.
+
+    A string for a number is a TypeError (:func:`largerot.errors.is_real`); a bad
+    value a ModelError.
+    """
+    if not isinstance(constraint, str) or constraint not in CONSTRAINTS:
+        raise ModelError(f"`constraint` must be one of {', '.join(map(repr, CONSTRAINTS))}, "
                          f"got {constraint!r}.")
     if psi is None:
         psi = 0.0 if constraint == "cylindrical" else 1.0
-    if isinstance(psi, bool) or not isinstance(psi, (int, float, np.integer, np.floating)) \
-            or not (np.isfinite(psi) and psi >= 0.0):
-        raise ValueError(f"`psi` must be a finite non-negative number, got {psi!r}.")
+    for name, v in (("psi", psi), ("step", step), ("min_step", min_step), ("max_step", max_step)):
+        if v is not None and not is_real(v):
+            raise TypeError(f"The arc-length `{name}` must be a number, got {v!r}.")
+    if not (np.isfinite(psi) and psi >= 0.0):
+        raise ModelError(f"`psi` must be a finite non-negative number, got {psi!r}.")
     if constraint == "cylindrical" and psi != 0.0:
-        raise ValueError(f"The cylindrical constraint has psi = 0; got psi = {psi!r} "
+        raise ModelError(f"The cylindrical constraint has psi = 0; got psi = {psi!r} "
                          "(use constraint='spherical' for psi > 0).")
-    if (isinstance(desired_iterations, bool) or not isinstance(desired_iterations, (int, np.integer))
-            or desired_iterations < 1):
-        raise ValueError(f"`desired_iterations` must be a positive integer, got {desired_iterations!r}.")
-    if isinstance(branch_sign, bool) or branch_sign not in (1, -1):
-        raise ValueError(f"`branch_sign` must be +1 or -1, got {branch_sign!r}.")
-    if step is not None and (isinstance(step, bool) or not isinstance(step, (int, float, np.integer, np.floating))
-                             or not (np.isfinite(step) and step != 0.0)):
-        raise ValueError(f"The arc-length `step` must be a non-zero finite number or None, got {step!r}.")
+    if checked_integer("", "desired_iterations", desired_iterations) < 1:
+        raise ModelError(f"`desired_iterations` must be a positive integer, got {desired_iterations!r}.")
+    if isinstance(branch_sign, (bool, np.bool_)) or not is_real(branch_sign) or branch_sign not in (1, -1):
+        raise ModelError(f"`branch_sign` must be +1 or -1, got {branch_sign!r}.")
+    if step is not None and not (np.isfinite(step) and step != 0.0):
+        raise ModelError(f"The arc-length `step` must be a non-zero finite number or None, got {step!r}.")
     for name, v in (("min_step", min_step), ("max_step", max_step)):
-        if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float, np.integer, np.floating))
-                              or not (np.isfinite(v) and v > 0.0)):
-            raise ValueError(f"`{name}` must be a positive number, got {v!r}.")
+        if v is not None and not (np.isfinite(v) and v > 0.0):
+            raise ModelError(f"`{name}` must be a positive number, got {v!r}.")
     if min_step is not None and max_step is not None and min_step > max_step:
-        raise ValueError(f"`min_step` ({min_step!r}) exceeds `max_step` ({max_step!r}).")
+        raise ModelError(f"`min_step` ({min_step!r}) exceeds `max_step` ({max_step!r}).")
     return float(psi)

@@ -8,6 +8,7 @@ import numpy as np
 
 from typing import Iterator
 
+from ..errors import ModelError
 from ..model import DOFS, Structure
 from ..results import EquilibriumPath, Point
 from .arc_length import ArcLengthStepper, check_options
@@ -60,8 +61,8 @@ class by_load(StepControl):
     def __post_init__(self) -> None:
         checked_option("step", self.step, nonzero=True)
         checked_option("min_step", self.min_step, positive=True, allow_none=True)
-        if self.at_limit not in AT_LIMIT:
-            raise ValueError(f"`at_limit` must be one of {', '.join(map(repr, AT_LIMIT))}, "
+        if not isinstance(self.at_limit, str) or self.at_limit not in AT_LIMIT:
+            raise ModelError(f"`at_limit` must be one of {', '.join(map(repr, AT_LIMIT))}, "
                              f"got {self.at_limit!r}.")
 
     def stepper(self, structure, **options) -> LoadStepper:
@@ -82,12 +83,16 @@ class by_displacement(StepControl):
     min_step: float | None = None
 
     def __post_init__(self) -> None:
-        if isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)) \
-                or self.node < 0:
+        if isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)):
             raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer), "
                             f"got {self.node!r}.")
+        if self.node < 0:
+            raise ModelError(f"by_displacement: `node` must be a node id (a non-negative integer), "
+                             f"got {self.node!r}.")
+        if not isinstance(self.dof, str):
+            raise TypeError(f"by_displacement: `dof` must be one of {', '.join(DOFS)}, got {self.dof!r}.")
         if self.dof not in DOFS:
-            raise ValueError(f"by_displacement: `dof` must be one of {', '.join(DOFS)}, got {self.dof!r}.")
+            raise ModelError(f"by_displacement: `dof` must be one of {', '.join(DOFS)}, got {self.dof!r}.")
         checked_option("step", self.step, nonzero=True)
         checked_option("min_step", self.min_step, positive=True, allow_none=True)
 

@@ -6,7 +6,7 @@ DOF itself (snap-back), which need arc-length control.
 """
 from __future__ import annotations
 
-from ..errors import ModelError
+from ..errors import ModelError, checked_node, is_real
 from ..model import dof_index
 from .newton import DisplacementConstraint
 from .stepper import PathStepper
@@ -18,12 +18,10 @@ class DisplacementStepper(PathStepper):
     """Advance the DOF ``dof`` of ``node`` by ``h`` per step."""
 
     def __init__(self, structure, node: int, dof: str, step: float, **options) -> None:
-        if not step:
-            raise ValueError(f"The displacement step must be non-zero, got {step!r}.")
-        n = getattr(structure, "n_nodes", 0)
-        if not 0 <= int(node) < n:
-            raise ModelError(f"by_displacement: unknown node {node!r} (the structure has {n} nodes).")
-        g = 3 * int(node) + dof_index(dof)
+        if is_real(step) and not step:
+            raise ModelError(f"The displacement step must be non-zero, got {step!r}.")
+        node = checked_node(node, getattr(structure, "n_nodes", 0), "by_displacement")
+        g = 3 * node + dof_index(dof)
         super().__init__(structure, step, **options)
         if self.slack_start:
             raise ModelError("by_displacement cannot start from a slack structure (a sagging cable "

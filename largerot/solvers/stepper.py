@@ -17,16 +17,15 @@ Who owns what
 from __future__ import annotations
 
 import logging
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from ..assembly import dof_label
-from ..errors import ModelError
+from ..errors import ModelError, checked_integer, checked_number
 from ..linalg import SingularTangent, factor, factorize
 from ..results import CriticalPoint, EquilibriumPath, Event, Point
-from ..snapshot import Model
+from ..snapshot import Model, check_traceable
 from .critical import Bracket, locate
 from .equilibrium import settle
 from .events import crossings, locate_crossings, user_events
@@ -55,27 +54,16 @@ CONSTANT_LOAD_RAMP = 64
 
 def checked_option(name: str, value, *, positive: bool = False, nonzero: bool = False,
                    integer: bool = False, allow_none: bool = False, lower=None, upper=None):
-    """A solver option as a float (or int), or a ValueError/TypeError naming it."""
-    if value is None and allow_none:
-        return None
-    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, float, np.integer, np.floating)):
-        raise TypeError(f"`{name}` must be a number, got {value!r}.")
-    v = float(value)
-    if not math.isfinite(v):
-        raise ValueError(f"`{name}` must be finite, got {value!r}.")
+    """A solver option as a float (or int), or a TypeError/ModelError naming it.
+
+    The rules are :func:`largerot.errors.checked_number` and ``checked_integer``'s: a
+    string is a TypeError, never converted; a whole number may be given as ``10.0``
+    but ``2.5`` or ``inf`` for an integer option is a ModelError.
+    """
     if integer:
-        if v != int(v):
-            raise ValueError(f"`{name}` must be a whole number, got {value!r}.")
-        v = int(v)
-    if positive and v <= 0:
-        raise ValueError(f"`{name}` must be positive, got {value!r}.")
-    if nonzero and v == 0:
-        raise ValueError(f"`{name}` must be non-zero, got {value!r}.")
-    if lower is not None and v < lower:
-        raise ValueError(f"`{name}` must be at least {lower}, got {value!r}.")
-    if upper is not None and v >= upper:
-        raise ValueError(f"`{name}` must be below {upper}, got {value!r}.")
-    return v
+        return checked_integer("", name, value, lower=lower, allow_none=allow_none)
+    return checked_number("", name, value, positive=positive, nonzero=nonzero, lower=lower,
+                          upper=upper, allow_none=allow_none)
 
 
 @dataclass
@@ -132,7 +120,7 @@ class PathStepper:
                  max_iterations: int = 25, target_load_factor: float | None = None,
                  events=None) -> None:
         if not hasattr(structure, "snapshot"):
-            raise ModelError(f"Expected a largerot.Structure, got {structure!r}.")
+            raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
         for name, v in (("tol", tol), ("tol_u", tol_u)):
             checked_option(name, v, positive=True, upper=1.0)
         max_iterations = checked_option("max_iterations", max_iterations, integer=True, lower=1)
@@ -144,6 +132,7 @@ class PathStepper:
                          else np.inf)
         self.target = checked_option("target_load_factor", target_load_factor, allow_none=True)
         self.model: Model = structure.snapshot()
+        check_traceable(self.model)          # nothing to solve: error; no load: InputWarning
         self.assembly = self.model.assembly
         self.problem = Problem(self.assembly)
         self.tol, self.tol_u, self.max_iterations = float(tol), float(tol_u), int(max_iterations)

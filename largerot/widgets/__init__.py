@@ -9,10 +9,41 @@ Each is an ipywidgets container, displayable in any notebook cell::
 
 The widgets draw; they compute no mechanics (that lives in the library).
 """
+import functools
+
+from ..errors import checked_node
 from ..export import export_animation, save_figure
-from .explorer import Explorer, explore
-from .live import Live, live
+from ..model import dof_index
+from . import explorer as _explorer, live as _live
+from .explorer import Explorer
+from .live import Live
 from .study import Study, study
+
+
+def _check_curve(n_nodes: int, node, dof, what: str) -> None:
+    """The curve's node and DOF, checked where they come in (TypeError / ModelError)."""
+    if node is not None:
+        checked_node(node, n_nodes, what)
+    if dof is not None:
+        dof_index(dof)
+
+
+@functools.wraps(_explorer.explore)
+def explore(path, node=None, dof=None, **options):
+    from ..results import EquilibriumPath
+    if not isinstance(path, EquilibriumPath):
+        raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
+    _check_curve(path.structure.n_nodes, node, dof, "explore")
+    return _explorer.explore(path, node, dof, **options)
+
+
+@functools.wraps(_live.live)
+def live(structure, control, **options):
+    if not hasattr(structure, "snapshot"):
+        raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
+    _check_curve(structure.n_nodes, options.get("node"), options.get("dof"), "live")
+    return _live.live(structure, control, **options)
+
 
 __all__ = ["Explorer", "explore", "Live", "live", "Study", "study", "export_animation",
            "save_figure"]
