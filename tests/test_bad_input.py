@@ -257,3 +257,29 @@ def test_empty_path_is_representable(path):
     assert len(empty) == 0 and empty.u.shape == (0, 3 * path.structure.n_nodes)
     with pytest.raises(lr.ModelError, match="Point index 0 is out of range: the path has 0 points"):
         empty[0]
+
+
+def test_a_constant_load_that_turns_an_element_inside_out_warns():
+    # a bar (EA = 1) pushed by a constant 1.5 past its far support: legal, rarely meant
+    s = lr.Structure()
+    a, b = s.node(0, 0), s.node(1, 0)
+    s.bar(a, b, lr.Section(E=1.0, A=1.0))
+    s.fix(a)
+    s.fix(b, "uy")
+    s.load(b, fx=-1.5, constant=True)
+    s.load(b, fx=-0.01)
+    with pytest.warns(lr.InputWarning, match="inside out .*bar element 0 of member 0"):
+        lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+
+
+def test_displacements_beyond_what_the_widgets_draw_warn():
+    from largerot.widgets import data
+    s = lr.Structure()
+    a, b = s.node(0, 0), s.node(1, 0)
+    s.beam(a, b, lr.Section(E=1.0, A=1.0, I=1.0))
+    s.fix(a)
+    s.load(b, fy=-1.0)
+    path = lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+    lay = data.layout(path.structure, len(path))
+    with pytest.warns(lr.InputWarning, match="beyond what the widgets draw"):
+        data.frames(path, np.arange(len(path)), lay, scale=1e39)

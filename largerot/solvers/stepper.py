@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..assembly import dof_label
-from ..errors import ModelError, checked_integer, checked_number
+from ..errors import ModelError, checked_integer, checked_number, warn_input
 from ..linalg import SingularTangent, factor, factorize
 from ..results import CriticalPoint, EquilibriumPath, Event, Point
 from ..snapshot import Model, check_traceable
@@ -197,6 +197,7 @@ class PathStepper:
             except SingularTangent:
                 pass
             u = self._settle_constant_loads(u)
+            self._warn_inverted(u)
             r, K, _ = p.residual(u, 0.0)
         ev = p.evaluation(u, 0.0)
         try:
@@ -280,6 +281,26 @@ class PathStepper:
                     raise ModelError("The structure finds no equilibrium under its constant loads "
                                      f"alone (stalled at {done:.0%} of them): {res.message}")
         return u
+
+    def _warn_inverted(self, u: np.ndarray) -> None:
+        """Warn when the constant loads alone turned a beam or bar element inside out
+        (its chord points against the undeformed one): legal, rarely meant."""
+        m = self.model
+        X = m.xy + self.assembly.expand(u).reshape(-1, 3)[:, :2]
+        for kind, nodes, skip in (("beam", m.beam_nodes, None), ("bar", m.bar_nodes, m.bar_cable)):
+            if not len(nodes):
+                continue
+            now, before = X[nodes[:, 1]] - X[nodes[:, 0]], m.xy[nodes[:, 1]] - m.xy[nodes[:, 0]]
+            inverted = np.einsum("ei,ei->e", now, before) < 0.0
+            if skip is not None:
+                inverted &= ~skip                   # a slack cable may hang any way
+            if inverted.any():
+                e = int(np.flatnonzero(inverted)[0])
+                kinds = ("beam",) if kind == "beam" else ("bar", "cable")
+                member = next((mb.id for mb in m.members if mb.kind in kinds and e in mb.elements), "?")
+                warn_input(f"The constant loads alone turn {int(inverted.sum())} {kind} element(s) "
+                           f"inside out (first: {kind} element {e} of member {member}, between nodes "
+                           f"{int(nodes[e, 0])} and {int(nodes[e, 1])}): check their size and direction.")
 
     def _mechanism_error(self, K, exc: SingularTangent) -> ModelError:
         free = self.assembly.free

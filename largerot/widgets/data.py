@@ -15,6 +15,7 @@ import logging
 
 import numpy as np
 
+from ..errors import warn_input
 from ..model import DOFS, Structure
 from ..plotting import obstacle_outlines
 from ..results import EquilibriumPath, member_lines
@@ -25,6 +26,8 @@ __all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options
 
 log = logging.getLogger(__name__)
 
+#: Largest coordinate the browser's float32 frames hold (beyond: inf, nothing drawn).
+DRAWABLE = float(np.finfo(np.float32).max)
 #: Most float32 numbers of shapes sent to the browser per path (8 MB): stays well
 #: below the 10 MB default limit of a Jupyter websocket message.
 FRAME_BUDGET = 2_000_000
@@ -129,8 +132,14 @@ def frames(path: EquilibriumPath, points: np.ndarray, lay: Layout, scale: float 
     s = path.structure
     out = np.empty((len(points), lay.n_vertices, 2), dtype=np.float32)
     u = path.u
-    for j, i in enumerate(points):
-        out[j] = lay.vertices(member_lines(s, scale * u[i], lay.n_sub))
+    shown = np.abs(scale * u[np.asarray(points, dtype=int)]) if len(points) else np.zeros(0)
+    if shown.size and not np.all(shown < DRAWABLE):
+        warn_input(f"Displacements up to {np.nanmax(shown):.3g} (scale {scale:g}) are beyond what "
+                   f"the widgets draw (float32, |x| < {DRAWABLE:.2g}): those frames show "
+                   "nothing useful. Check the path (its status and load factors).")
+    with np.errstate(over="ignore", invalid="ignore"):     # warned above
+        for j, i in enumerate(points):
+            out[j] = lay.vertices(member_lines(s, scale * u[i], lay.n_sub))
     return out
 
 
