@@ -273,7 +273,9 @@ def relaxed(problem: Problem, u: np.ndarray, lam: float, constraint, r: np.ndarr
             continue
         u, lam, ev = u + du, lam + dlam, trial
         r, K = trial[0], trial[1]
-        sigma *= min(max(rn1 / rn, 0.1), 10.0)
+        # a residual of exactly zero (before or after) must not divide: clamped anyway
+        grew = rn1 / rn if rn > 0.0 else (0.0 if rn1 == 0.0 else np.inf)
+        sigma *= min(max(grew, 0.1), 10.0)
         rn = rn1
         if sigma < RELAX_END * diag:
             break
