@@ -563,22 +563,9 @@ def _fmt(x, spec="8.3g"):
 def table(res: dict) -> str:
     L = [f"largerot benchmarks ({res['mode']}), {res['date']}, {res['machine']['cpu']}, "
          f"{res['machine']['n_cpu']} CPU, BLAS {res['machine']['blas']}"]
-    if "iteration" in res:
-        _iteration_table(res, L)
-    if "baseline" in res:
-        _baseline_table(res, L)
-    if "scaling" in res:
-        _scaling_table(res, L)
-    if "conditioning" in res:
-        _conditioning_table(res, L)
-    if "efficiency" in res:
-        _efficiency_table(res, L)
-    if "latency" in res:
-        _latency_table(res, L)
-    if "build" in res:
-        _build_table(res, L)
-    if "memory" in res:
-        _memory_table(res, L)
+    for name in SECTIONS:                  # each section has its _<name>_table
+        if name in res:
+            globals()[f"_{name}_table"](res, L)
     return "\n".join(L)
 
 

@@ -31,3 +31,23 @@ def residual_jacobian(problem, u, lam, h):
         J[:, j] = -(problem.residual(u + e, lam, tangent=False)[0]
                     - problem.residual(u - e, lam, tangent=False)[0]) / (2 * h)
     return K.toarray(), J
+
+
+def arrays_of(obj) -> dict:
+    """Every numpy array reachable through dicts, lists and tuples of ``vars(obj)``,
+    by a path-like name; a path's displacement cache ``_u_full`` left out (not saved)."""
+    out = {}
+
+    def walk(x, name):
+        if isinstance(x, np.ndarray):
+            out[name] = x
+        elif isinstance(x, dict):
+            for k, v in x.items():
+                walk(v, f"{name}[{k!r}]")
+        elif isinstance(x, (list, tuple)):
+            for i, v in enumerate(x):
+                walk(v, f"{name}[{i}]")
+    state = dict(vars(obj))
+    state.pop("_u_full", None)
+    walk(state, "")
+    return out

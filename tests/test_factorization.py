@@ -74,17 +74,22 @@ def test_inertia_past_a_limit_point_equals_the_dense_eigenvalue_count():
     assert max(counts) >= 1                          # the path did pass the limit point
 
 
-def test_inertia_past_two_bifurcations_of_a_straight_column():
-    # a straight clamped-free column under an axial load P: the trivial path's tangent
-    # has one negative eigenvalue for π²EI/4L² < P < 9π²EI/4L² and two above it
-    # (Timoshenko & Gere 1961, §2.1); the discrete 20-element column within 0.1 %
+def _straight_column() -> Problem:
+    """A clamped-free column (EI = 1, L = 1, EA = 1e3) in 20 elements, unit axial load."""
     s = lr.Structure()
     sec = lr.Section(E=1.0, A=1e3, I=1.0)
     base, top = s.node(0, 0), s.node(0, 1)
     s.beam(base, top, sec, segments=20)
     s.fix(base)
     s.load(top, fy=-1.0)
-    P = Problem(Assembly.of(s))
+    return Problem(Assembly.of(s))
+
+
+def test_inertia_past_two_bifurcations_of_a_straight_column():
+    # a straight clamped-free column under an axial load P: the trivial path's tangent
+    # has one negative eigenvalue for π²EI/4L² < P < 9π²EI/4L² and two above it
+    # (Timoshenko & Gere 1961, §2.1); the discrete 20-element column within 0.1 %
+    P = _straight_column()
     pcr = np.pi**2 / 4
     for lam, expected in ((0.5 * pcr, 0), (1.5 * pcr, 1), (5 * pcr, 1), (12 * pcr, 2)):
         _, K0, _ = P.residual(np.zeros(P.n), 0.0)
@@ -151,13 +156,7 @@ def test_the_eigenpair_of_a_large_tangent_matches_the_dense_one(monkeypatch, j):
     # eigenpair j by shift-invert about zero, as for a large model, against LAPACK's
     # dense symmetric eigensolver (scipy.linalg.eigh)
     from largerot.solvers import stability
-    s = lr.Structure()
-    sec = lr.Section(E=1.0, A=1e3, I=1.0)
-    base, top = s.node(0, 0), s.node(0, 1)
-    s.beam(base, top, sec, segments=20)
-    s.fix(base)
-    s.load(top, fy=-1.0)
-    P = Problem(Assembly.of(s))
+    P = _straight_column()
     lam = 12 * np.pi**2 / 4
     _, K0, _ = P.residual(np.zeros(P.n), 0.0)
     _, K, _ = P.residual(lam * linalg.factor(K0).solve(P.F), lam)

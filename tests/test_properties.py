@@ -50,6 +50,8 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 import largerot as lr
 from largerot.assembly import Assembly
 
+from helpers import arrays_of
+
 #: Examples per property in CI: 200 traces, 200 structures and 800 corrupted files run
 #: in about 13 s here (2 shared cores). A longer run (results in DEVELOPERS.md):
 #: LARGEROT_HYPOTHESIS_EXAMPLES=4000 python -m pytest tests/test_properties.py
@@ -275,27 +277,8 @@ def residuals(path: lr.EquilibriumPath) -> np.ndarray:
 
 
 # -- exact round trips ------------------------------------------------------------------
-def _arrays(obj) -> dict:
-    """Every array reachable through dicts, lists and tuples of ``vars(obj)``."""
-    out = {}
-
-    def walk(x, name):
-        if isinstance(x, np.ndarray):
-            out[name] = x
-        elif isinstance(x, dict):
-            for k, v in x.items():
-                walk(v, f"{name}[{k!r}]")
-        elif isinstance(x, (list, tuple)):
-            for i, v in enumerate(x):
-                walk(v, f"{name}[{i}]")
-    state = dict(vars(obj))
-    state.pop("_u_full", None)                # a path's cache, not saved (rebuilt on demand)
-    walk(state, "")
-    return out
-
-
 def assert_same_arrays(a, b) -> None:
-    x, y = _arrays(a), _arrays(b)
+    x, y = arrays_of(a), arrays_of(b)
     assert x.keys() == y.keys()
     for k in x:
         assert x[k].dtype == y[k].dtype and x[k].shape == y[k].shape, k

@@ -18,6 +18,8 @@ import pytest
 import largerot as lr
 from largerot import demo
 
+from helpers import arrays_of
+
 E, FY, B, H, L = 200e9, 250e6, 0.05, 0.1, 2.0
 MP = FY * B * H**2 / 4
 
@@ -58,23 +60,6 @@ CASES = {"fibre beam, contact": fibre_cantilever_on_stop, "bars, followers, line
          "cables, slack": guyed_mast}
 
 
-def _arrays(obj, prefix=""):
-    """Every array reachable through dicts, lists and tuples of ``vars(obj)``."""
-    out = {}
-
-    def walk(x, name):
-        if isinstance(x, np.ndarray):
-            out[name] = x
-        elif isinstance(x, dict):
-            for k, v in x.items():
-                walk(v, f"{name}[{k!r}]")
-        elif isinstance(x, (list, tuple)):
-            for i, v in enumerate(x):
-                walk(v, f"{name}[{i}]")
-    walk(dict(vars(obj)), prefix)
-    return out
-
-
 @pytest.mark.parametrize("case", CASES)
 def test_structures_and_paths_round_trip_bit_for_bit(tmp_path, case):
     s, control, options = CASES[case]()
@@ -84,11 +69,11 @@ def test_structures_and_paths_round_trip_bit_for_bit(tmp_path, case):
     lr.save(path, tmp_path / "p.lr")
     s2, path2 = lr.load(tmp_path / "s.lr"), lr.load(tmp_path / "p.lr")
     assert type(s2) is lr.Structure and type(path2) is lr.EquilibriumPath
-    a, b = _arrays(s.snapshot()), _arrays(s2.snapshot())
+    a, b = arrays_of(s.snapshot()), arrays_of(s2.snapshot())
     assert a.keys() == b.keys()
     for k in a:
         assert a[k].dtype == b[k].dtype and np.array_equal(a[k], b[k]), k
-    a, b = _arrays(path), _arrays(path2)
+    a, b = arrays_of(path), arrays_of(path2)
     assert a.keys() == b.keys()
     for k in a:
         assert a[k].dtype == b[k].dtype and np.array_equal(a[k], b[k], equal_nan=True), k
