@@ -89,3 +89,25 @@ def test_a_stored_sweep_resumes_with_only_the_missing_cases(tmp_path):
     pd.testing.assert_frame_equal(_numbers(table), _numbers(full), check_dtype=False)
     path = lr.load(tmp_path / "case-00004.lr")
     assert path.status == "max_steps" and len(path) == table.loc[4, "points"]
+
+
+def test_the_sweep_panel_opens_stored_and_retraced_cases(tmp_path):
+    pytest.importorskip("anywidget")
+    cases = lr.grid(rise=[0.15, 0.25], segments=[8, 12])
+    table = lr.sweep(sweep_cases.arch, cases, lr.by_arc_length(), store=tmp_path, progress=False,
+                     **OPTIONS)
+    panel = lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise",
+                                   y="first_limit", by="segments", store=tmp_path, **OPTIONS)
+    assert panel.plot.value[:4] == b"\x89PNG" and len(panel.case.options) == 4
+    panel.case.value = 2
+    panel.open_button.click()
+    stored = lr.load(tmp_path / "case-00002.lr")
+    np.testing.assert_array_equal(panel.path.u, stored.u)
+    assert panel.explorer.path is panel.path and "loaded" in panel.status.value
+    # without the store the case is re-traced: the same path (the trace is deterministic)
+    fresh = lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise",
+                                   y="first_limit", **OPTIONS)
+    np.testing.assert_array_equal(fresh.open(2).u, stored.u)
+    assert "re-traced" in fresh.status.value
+    with pytest.raises(lr.ModelError, match="`y` names no column.*'nope'"):
+        lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise", y="nope")

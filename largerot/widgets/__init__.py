@@ -5,6 +5,7 @@ Each is an ipywidgets container, displayable in any notebook cell::
     lr.widgets.explore(path)                       # shape beside the path, slider, play
     lr.widgets.live(structure, lr.by_load(0.05))   # step / run / pause / back / reset
     lr.widgets.study(build, height=(4, 12))        # sliders rebuild and re-trace
+    lr.widgets.sweep_panel(table, build, control, x=..., y=..., by=...)  # a sweep's cases
     lr.widgets.export_animation(path, "pole.gif")  # GIF or self-contained HTML
 
 The widgets draw; they compute no mechanics (that lives in the library).
@@ -18,6 +19,7 @@ from . import explorer as _explorer, live as _live
 from .explorer import Explorer
 from .live import Live
 from .study import Study, study
+from .sweep_panel import SweepPanel, sweep_panel
 
 
 def _check_curve(n_nodes: int, node, dof, what: str) -> None:
@@ -45,5 +47,5 @@ def live(structure, control, **options):
     return _live.live(structure, control, **options)
 
 
-__all__ = ["Explorer", "explore", "Live", "live", "Study", "study", "export_animation",
-           "save_figure"]
+__all__ = ["Explorer", "explore", "Live", "live", "Study", "study", "SweepPanel", "sweep_panel",
+           "export_animation", "save_figure"]
