@@ -63,12 +63,15 @@ def grid(**values) -> list[dict]:
 
 
 def default_summary(path, params: dict) -> dict:
-    """One row of a path: status, message, points, first limit and bifurcation load
-    factors, final λ, the largest displacement with its node and DOF."""
+    """One row of a path: status, message, points, the load factor of its first critical
+    point (the peak a structure reaches by load) and of its first limit point and first
+    bifurcation, final λ, the largest displacement with its node and DOF."""
     row = {"status": path.status, "message": path.message, "points": len(path),
            "final_load_factor": float(path.load_factor[-1]) if len(path) else math.nan}
+    crit = path.critical_points
+    row["first_critical"] = float(crit[0].load_factor) if crit else math.nan
     for kind in ("limit", "bifurcation"):
-        first = [c.load_factor for c in path.critical_points if c.kind == kind]
+        first = [c.load_factor for c in crit if c.kind == kind]
         row[f"first_{kind}"] = float(first[0]) if first else math.nan
     u = path.u
     trans = np.zeros(u.shape[1], bool)

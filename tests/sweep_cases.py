@@ -13,3 +13,10 @@ def arch_or_trouble(rise, trouble=""):
         raise RuntimeError("the build function broke")
     # "slow": 3,000 elements, about 0.1 s a point against 0.004 s for 12
     return examples.shallow_arch(rise=rise, segments=3000 if trouble == "slow" else 12).structure
+
+
+def imperfect_arch(amplitude, rise=0.3, segments=32):
+    """The shallow arch moved by ``amplitude`` (m) along its first buckling mode."""
+    import largerot as lr
+    s = examples.shallow_arch(rise=rise, segments=int(segments)).structure
+    return lr.imperfect(s, lr.buckling(s).modes[0], amplitude)
