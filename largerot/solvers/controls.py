@@ -11,11 +11,10 @@ from typing import Iterator
 from ..errors import ModelError
 from ..model import DOFS, Structure
 from ..results import EquilibriumPath, Point
+from ..storage import load, save
 from .arc_length import ArcLengthStepper, check_options
 from .displacement_control import DisplacementStepper
 from .load_control import AT_LIMIT, LoadStepper
-from ..errors import ModelError
-from ..storage import load, save
 from .events import user_events
 from .stepper import KEEP, PathStepper, checked_option
 
@@ -27,6 +26,8 @@ DEFAULT_MAX_STEPS = 500
 #: Points between checkpoints of ``trace(..., checkpoint=...)``: a save of a 1,000-element
 #: trace takes a few milliseconds, a point several.
 DEFAULT_CHECKPOINT_EVERY = 10
+#: Attempts at assembling the path when interrupts keep arriving (the stop button held).
+RESULT_ATTEMPTS = 3
 
 
 class StepControl:
@@ -257,15 +258,15 @@ def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
     ``checkpoint`` (a file name) the stepper is saved every ``checkpoint_every``
     points and once more when the run ends (see :func:`trace`).
     """
-    if checkpoint is not None:
-        checkpoint_every = checked_option("checkpoint_every", checkpoint_every, integer=True, lower=1)
-        save(stepper, checkpoint)                # the start: a resume never finds no file
-    since = 0
-    bar = None
-    if progress:
-        from tqdm.auto import tqdm
-        bar = tqdm(total=max_steps, desc="points", unit="pt")
-    try:
+    since, bar = 0, None
+    try:                           # an interrupt anywhere in here ends the run cleanly
+        if checkpoint is not None:
+            checkpoint_every = checked_option("checkpoint_every", checkpoint_every, integer=True,
+                                              lower=1)
+            save(stepper, checkpoint)            # the start: a resume never finds no file
+        if progress:
+            from tqdm.auto import tqdm
+            bar = tqdm(total=max_steps, desc="points", unit="pt")
         for point in iterate(stepper, max_steps):
             if bar is not None:
                 bar.update(1)
@@ -286,7 +287,17 @@ def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
             bar.set_postfix_str(f"{stepper.status}, λ = {stepper.lam:.4g}")
             bar.close()
     if checkpoint is not None:
-        save(stepper, checkpoint)
+        try:
+            save(stepper, checkpoint)                # atomic: an interrupt keeps the last one
+        except KeyboardInterrupt:
+            pass
+    # a second press of the stop button while the path is assembled: assemble it again
+    for _ in range(RESULT_ATTEMPTS - 1):
+        try:
+            return stepper.result()
+        except KeyboardInterrupt:
+            if stepper.running:
+                stepper.finish("interrupted")
     return stepper.result()
 
 
