@@ -214,7 +214,9 @@ def sweep(build: Callable, cases, control, *, summary: Callable | None = None, e
                 continue
         todo.append(i)
     store_arg = None if folder is None else str(folder)
-    args = lambda i: (build, cases[i], control, summary, trace_options, case_timeout, store_arg, i)  # noqa: E731
+
+    def args(i: int) -> tuple:
+        return build, cases[i], control, summary, trace_options, case_timeout, store_arg, i
     bar = tqdm(total=len(cases), initial=len(cases) - len(todo), desc="cases", unit="case",
                disable=not progress)
 
