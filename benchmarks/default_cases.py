@@ -395,18 +395,12 @@ def cable_point_load():
     Reference: exact statics of two straight elastic segments (closed_form.cable_joint), joint
     sag; exact up to Newton's tolerance: tolerance 1e-5.
     """
-    s = lr.Structure()
-    a, c, b = s.node(0.0, 0.0), s.node(12.0, 0.0), s.node(30.0, 0.0)
-    T0, P = 5e3, -20e3
-    sec = lr.Section(E=160e9, A=2e-4)
-    s.cable(a, c, sec, segments=4, pretension=T0)
-    s.cable(c, b, sec, segments=6, pretension=T0)
-    s.fix(a, "ux", "uy")
-    s.fix(b, "ux", "uy")
-    s.load(c, fy=P)
+    sc = examples.two_piece_cable()
+    s, c, q = sc.structure, sc.joint, sc.parameters
 
     def joint(lam):
-        return cf.cable_joint(12.0, 18.0, sec.EA, T0, lam * P)
+        return cf.cable_joint(q["left_length"], q["right_length"], q["EA"], q["pretension"],
+                              lam * q["load"])
     y1 = joint(1.0)[1]
 
     def check(path):

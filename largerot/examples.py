@@ -108,6 +108,28 @@ def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4) 
                     parameters={"half_span": a, "rise": h, "EA": EA})
 
 
+def two_piece_cable(pretension: float = 5e3, load: float = 20e3) -> Scenario:
+    """A weightless steel rope (E = 160 GPa, 2 cm²) between pins 30 m apart,
+    pretensioned, pulled down 12 m from one end by ``load`` × λ (newtons).
+
+    Meshed into 4 and 6 segments, which stay straight: exact curve from the statics
+    of two straight elastic pieces, :func:`largerot.closed_form.cable_joint`.
+    """
+    T0, P = _positive("pretension", pretension), _positive("load", load)
+    s = Structure()
+    a, joint, b = s.node(0.0, 0.0), s.node(12.0, 0.0), s.node(30.0, 0.0)
+    rope = Section(E=160e9, A=2e-4)
+    s.cable(a, joint, rope, segments=4, pretension=T0)
+    s.cable(joint, b, rope, segments=6, pretension=T0)
+    s.fix(a, "ux", "uy")
+    s.fix(b, "ux", "uy")
+    s.load(joint, fy=-P)
+    return Scenario(s, {"target_load_factor": 1.0}, "Pretensioned rope pulled down at one point.",
+                    nodes={"joint": joint, "left": a, "right": b}, curve=(joint, "uy"),
+                    parameters={"left_length": 12.0, "right_length": 18.0, "EA": rope.EA,
+                                "pretension": T0, "load": -P})
+
+
 def inclined_cantilever(angle: float = 30.0, length: float = 4.0, load: float = 1.0,
                         segments: int = 32) -> Scenario:
     """A steel tube (100 × 5 mm) clamped at ``angle`` degrees, a tip load across it.

@@ -5,6 +5,7 @@ import numpy as np
 import pytest
 
 import largerot as lr
+from largerot import examples
 from largerot.assembly import Assembly
 from largerot.closed_form import (cable_joint, elastic_catenary, follower_tip_cantilever,
                                   heavy_cantilever)
@@ -53,18 +54,12 @@ def test_taut_cable_with_one_point_load():
     # (common practice, no source): unknown position of the joint, each segment
     # N = EA·(l − l0)/l0 along its chord, joint in equilibrium. Weightless cable
     # segments stay straight, so the mesh adds no error.
-    s = lr.Structure()
-    a, c, b = s.node(0.0, 0.0), s.node(12.0, 0.0), s.node(30.0, 0.0)
-    T0, P = 5e3, -20e3
-    sec = lr.Section(E=160e9, A=2e-4)
-    s.cable(a, c, sec, segments=4, pretension=T0)
-    s.cable(c, b, sec, segments=6, pretension=T0)
-    s.fix(a, "ux", "uy")
-    s.fix(b, "ux", "uy")
-    s.load(c, fy=P)
+    sc = examples.two_piece_cable(pretension=5e3, load=20e3)
+    s, c, q = sc.structure, sc.joint, sc.parameters
+    T0 = q["pretension"]
     path = lr.trace(s, lr.by_load(0.25), target_load_factor=1.0, tol=1e-12)
     assert path.status == "target"
-    x, y = cable_joint(12.0, 18.0, sec.EA, T0, P)
+    x, y = cable_joint(q["left_length"], q["right_length"], q["EA"], T0, q["load"])
     # exact up to Newton's residual tolerance 1e-8, which the small horizontal
     # movement feels most (relative 1e-7)
     assert path.displacement(c, "ux")[-1] == pytest.approx(x - 12.0, rel=1e-7)
