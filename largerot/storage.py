@@ -239,14 +239,6 @@ def save(obj, filename) -> Path:
     return target
 
 
-def read_header(filename) -> dict:
-    """The header of a largerot file (format, schema, kind, versions), without the tree."""
-    with _open(filename) as z:
-        header = _header(z, filename)
-    header.pop("root", None)
-    return header
-
-
 def _open(filename) -> zipfile.ZipFile:
     try:
         return zipfile.ZipFile(filename)
