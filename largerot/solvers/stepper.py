@@ -218,10 +218,7 @@ class PathStepper:
             # displacement per unit λ of the linear response: weighs λ against u in
             # the arc-length metric (and in ``path.arc_length``)
             self.lam_scale = p.norm(fact.solve(p.F)) or 1.0
-        # the diagnosis above is SuperLU's (its pivots calibrate the mechanism test);
-        # the factor kept for predicting is the back end Newton and a resumed stepper use
-        fact = factor(K, symmetric=p.symmetric)
-        self._fact = fact
+        self._fact = fact                  # factorize uses factor's back end, as Newton does
         rec = PointRecord(0.0, u, 0, np.array([]), count_negative(fact), 0.0, self.assembly.record(ev),
                           history=history)
         self._points.append(rec)
