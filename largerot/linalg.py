@@ -207,11 +207,14 @@ class Factorization:
         """(pivots, DOF each eliminates), in elimination order."""
         raise NotImplementedError
 
+    def _diagonal(self) -> np.ndarray:
+        return self.K.diagonal()
+
     def _compute_pivots(self) -> None:
         pivots, order = self._pivots_in_order()
         if not np.all(np.isfinite(pivots)):
             raise SingularTangent("The factorisation produced non-finite pivots.")
-        diag = np.abs(self.K.diagonal())
+        diag = np.abs(self._diagonal())
         self._pivots = pivots
         self._pivot_dof = order
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -319,7 +322,12 @@ class _Symbolic:
         self.owner = None                  # the factorisation whose numbers it holds
 
     def matches(self, K) -> bool:
-        return K.shape == (self.n, self.n) and _same_pattern(K, self.indptr_ref, self.indices_ref)
+        if K.shape != (self.n, self.n) or not _same_pattern(K, self.indptr_ref, self.indices_ref):
+            return False
+        # equal arrays: hold on to these, the ones the assembly's tangents share, so
+        # that the next match is by identity (tangents' index arrays are never modified)
+        self.indptr_ref, self.indices_ref = K.indptr, K.indices
+        return True
 
     def upper_triangle(self, K) -> sp.csc_matrix:
         Ku = copy.copy(self.template)                  # validated once (as Assembly._matrix)
@@ -385,6 +393,9 @@ class LDLFactorization(Factorization):
         if s.owner is not self:                       # another matrix was factorised since
             s.factor(self._Ku, self)
         return s.solver
+
+    def _diagonal(self) -> np.ndarray:
+        return self.K.data[self._symbolic.diagonal]        # no zero by pattern (checked)
 
     def _pivots_in_order(self):
         _, d, perm = self._solver().factors()

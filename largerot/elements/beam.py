@@ -26,6 +26,8 @@ __all__ = ["BeamResponse", "response", "corotate", "local_rotations", "curve", "
 
 N_DOF = 6
 NODE_DOFS = (0, 1, 2)
+#: Local tangent per EI/L0: ∂(M1, M2)/∂(θ1, θ2) in the lower block, the axial entry set apart.
+_BENDING = np.array([[0.0, 0.0, 0.0], [0.0, 4.0, 2.0], [0.0, 2.0, 4.0]])
 
 
 class BeamResponse(NamedTuple):
@@ -39,12 +41,11 @@ def local_rotations(dX: np.ndarray, u: np.ndarray, c: np.ndarray, s: np.ndarray)
     """End rotations relative to the current chord, each shape (n_elements,)."""
     L = np.hypot(dX[:, 0], dX[:, 1])
     c0, s0 = dX[:, 0] / L, dX[:, 1] / L
-    ca, sa = c * c0 + s * s0, s * c0 - c * s0          # rigid rotation α of the chord
-    out = []
-    for rz in (u[:, 2], u[:, 5]):
-        cr, sr = np.cos(rz), np.sin(rz)
-        out.append(np.arctan2(sr * ca - cr * sa, cr * ca + sr * sa))
-    return out
+    ca, sa = (c * c0 + s * s0)[:, None], (s * c0 - c * s0)[:, None]   # rigid rotation α
+    rz = u[:, 2::3]                                   # both ends at once: (n_elements, 2)
+    cr, sr = np.cos(rz), np.sin(rz)
+    t = np.arctan2(sr * ca - cr * sa, cr * ca + sr * sa)
+    return t[:, 0], t[:, 1]
 
 
 def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
@@ -67,16 +68,14 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
     l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
     t1, t2 = local_rotations(dX, u, c, s)
     ka, kb = EA / L0, EI / L0
-    N = ka * stretch
-    M1 = kb * (4.0 * t1 + 2.0 * t2)
-    M2 = kb * (2.0 * t1 + 4.0 * t2)
-    q = np.stack([N, M1, M2], axis=1)
+    q = np.empty((len(l), 3))
+    q[:, 0] = ka * stretch
+    q[:, 1] = kb * (4.0 * t1 + 2.0 * t2)
+    q[:, 2] = kb * (2.0 * t1 + 4.0 * t2)
     k = None
     if tangent:
-        k = np.zeros((len(l), 3, 3))
+        k = kb[:, None, None] * _BENDING
         k[:, 0, 0] = ka
-        k[:, 1, 1] = k[:, 2, 2] = 4.0 * kb
-        k[:, 1, 2] = k[:, 2, 1] = 2.0 * kb
     f, K = corotate(c, s, l, q, k)
     return BeamResponse(q, f, K, l)
 
@@ -103,14 +102,16 @@ def corotate(c, s, l, q, k=None):
         (n_elements, 4, 6), and H, shape (n_elements, 4, 4): k in its upper-left
         block, the geometric coefficients in its last row and column.
     """
-    zero = np.zeros_like(c)
-    r = np.stack([-c, -s, zero, c, s, zero], axis=1)
-    z = np.stack([s, -c, zero, -s, c, zero], axis=1) / l[:, None]
-    b1 = -z.copy()
-    b1[:, 2] += 1.0
-    b2 = -z.copy()
-    b2[:, 5] += 1.0
-    C = np.stack([r, b1, b2, z], axis=1)
+    # C filled in place: a few slice writes instead of stacks and copies (half the
+    # time at 100,000 elements, the calls' overhead at 40)
+    C = np.zeros((len(l), 4, 6))
+    r, z = C[:, 0], C[:, 3]
+    r[:, 0], r[:, 1], r[:, 3], r[:, 4] = -c, -s, c, s
+    zc, zs = c / l, s / l
+    z[:, 0], z[:, 1], z[:, 3], z[:, 4] = zs, -zc, -zs, zc
+    np.negative(z, out=C[:, 1])
+    np.negative(z, out=C[:, 2])
+    C[:, 1, 2] = C[:, 2, 5] = 1.0
     f = np.einsum("ea,eai->ei", q, C[:, :3])
     if k is None:
         return f, None

@@ -259,10 +259,12 @@ class ArcLengthStepper(PathStepper):
         prev = self._previous_increment()
         if prev is not None and sm.dot(prev[0], prev[1], Du, Dlam) < 0.0:
             return "the increment turns back against the previous one"
-        n = self.n_points
+        n, near = self.n_points, REVISIT_SHARE * length
         for i in range(max(n - REVISIT_WINDOW, 0), n):
             pt = self._points[i]
-            if sm.norm(res.u - pt.u, res.lam - pt.lam) <= REVISIT_SHARE * length:
+            if sm.s2 * (res.lam - pt.lam) ** 2 > near * near:
+                continue                      # its load factor alone is too far off
+            if sm.norm(res.u - pt.u, res.lam - pt.lam) <= near:
                 return f"it lands on point {i}"
         landed = self.target is not None and res.lam == self.target
         if self.constraint in ("normal-plane", "updated-normal-plane") and not landed \

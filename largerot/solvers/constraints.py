@@ -51,19 +51,22 @@ class QuadraticConstraint:
         m = self.m
         Du, Dlam = u - self.u0, lam - self.lam0
         v = Du + du_r
-        a = float(np.dot(du_F * m.w2, du_F)) + m.s2          # |δu_F|² + ψ²s²
-        b = 2.0 * (float(np.dot(v * m.w2, du_F)) + m.s2 * Dlam)
-        c = float(np.dot(v * m.w2, v)) + m.s2 * Dlam**2 - self.dl**2
+        wF, wv = du_F * m.w2, v * m.w2
+        a = float(np.dot(wF, du_F)) + m.s2                   # |δu_F|² + ψ²s²
+        b = 2.0 * (float(np.dot(wv, du_F)) + m.s2 * Dlam)
+        c = float(np.dot(wv, v)) + m.s2 * Dlam**2 - self.dl**2
         disc = b * b - 4.0 * a * c
         if not (a > 0.0) or disc < 0.0:
             return LinearisedConstraint(m, self.u0, self.lam0, self.dl).delta_lam(du_r, du_F, u, lam)
         sq = np.sqrt(disc)
         q = -0.5 * (b + np.copysign(sq, b))                  # roots without cancellation
         roots = [q / a, c / q] if q != 0.0 else [0.0, 0.0]
-        scores = [m.dot(v + r * du_F, Dlam + r, Du, Dlam) for r in roots]
-        if Du.any() or Dlam:
-            return roots[int(np.argmax(scores))]
-        return roots[0]
+        if not (Du.any() or Dlam):
+            return roots[0]
+        # the angle of each new increment v + r·δu_F, Dlam + r with the current one
+        vD, FD = float(np.dot(wv, Du)), float(np.dot(wF, Du))
+        scores = [vD + r * FD + m.s2 * (Dlam + r) * Dlam for r in roots]
+        return roots[int(np.argmax(scores))]
 
 
 class PlaneConstraint:

@@ -62,6 +62,8 @@ class ChordFit:
         Global DOFs ux, uy of each chord's first end, then of its second.
     dX : ndarray, shape (n, 2)
         Undeformed chord vectors.
+    ends : ndarray of int, shape (n, 4)
+        The free-DOF index of each of ``dm``'s DOFs, ``n_free`` for a supported one.
     used : ndarray of int, shape (m,)
         Free-DOF indices of the fitted translations.
     """
@@ -83,6 +85,9 @@ class ChordFit:
         held = cols < 0                                        # a supported end stays put
         self.used, cols = np.unique(cols[~held], return_inverse=True)
         G = sp.csc_matrix((vals[~held], (rows[~held], cols)), shape=(2 * n, len(self.used)))
+        # free-DOF index of each chord end's ux, uy; a supported one reads the zero
+        # appended after the free displacements
+        self.ends = np.where(fi[self.dm] >= 0, fi[self.dm], assembly.n_free)
         self.w = np.repeat(k, 2)
         self.GtW = (G.T @ sp.diags(self.w)).tocsr()
         A = (self.GtW @ G + sp.identity(len(self.used)) * (ANCHOR * float(k.mean()))).tocsc()
@@ -126,19 +131,25 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
     fit = chord_fit(assembly)
     if fit.empty or fit.lu is None:
         return u1
-    dm, dX = fit.dm, fit.dX
-    U0, U1 = assembly.expand(u0), assembly.expand(u1)
-    x0 = dX + U0[dm[:, 2:4]] - U0[dm[:, 0:2]]
-    x1 = dX + U1[dm[:, 2:4]] - U1[dm[:, 0:2]]
+    ends = fit.ends
+    U0, dU = np.append(u0, 0.0), np.append(u1 - u0, 0.0)
+    x0 = fit.dX + U0[ends[:, 2:4]] - U0[ends[:, 0:2]]
+    d = dU[ends[:, 2:4]] - dU[ends[:, 0:2]]
     l0sq = np.einsum("ei,ei->e", x0, x0)
-    d = x1 - x0
-    stretch = 1.0 + np.einsum("ei,ei->e", x0, d) / l0sq    # (l0 + Δl)/l0
+    e = np.einsum("ei,ei->e", x0, d) / l0sq                 # Δl/l0
     phi = (x0[:, 0] * d[:, 1] - x0[:, 1] * d[:, 0]) / l0sq  # Δφ
     if log.isEnabledFor(logging.DEBUG):
         log.debug("chord fit: largest turn %.3g rad", float(np.abs(phi).max()))
-    c, s = stretch * np.cos(phi), stretch * np.sin(phi)
-    target = np.stack([c * x0[:, 0] - s * x0[:, 1], s * x0[:, 0] + c * x0[:, 1]], axis=1)
-    misfit = (target - x1).ravel()                         # (2n,): chord x, y per element
+    # target chord − predicted one, (1 + e)·R(φ)·x0 − x0 − d, with (1 + e)·cos φ − 1
+    # written as e·cos φ − 2·sin²(φ/2): no 1 + e is formed, so a correction far below
+    # the chord's round-off keeps its digits (and its axial part) instead of being
+    # fitted away
+    along = e * np.cos(phi) - 2.0 * np.sin(0.5 * phi) ** 2
+    across = (1.0 + e) * np.sin(phi)
+    misfit = np.empty_like(x0)
+    misfit[:, 0] = along * x0[:, 0] - across * x0[:, 1] - d[:, 0]
+    misfit[:, 1] = across * x0[:, 0] + along * x0[:, 1] - d[:, 1]
+    misfit = misfit.ravel()                                # (2n,): chord x, y per element
     delta = fit.lu.solve(fit.GtW @ misfit)
     if not np.all(np.isfinite(delta)):
         return u1
