@@ -21,7 +21,7 @@ from .errors import ModelError, checked_integer, checked_number
 from .results import EquilibriumPath, member_lines
 
 __all__ = ["export_animation", "save_figure", "animation_points", "render_frames", "default_title",
-           "frame_title"]
+           "frame_title", "animation_figure"]
 
 log = logging.getLogger(__name__)
 
@@ -66,10 +66,25 @@ def render_frames(path: EquilibriumPath, points, node=None, dof=None, figsize=(8
     from frame to frame. ``scale``: displacement magnification, automatic by default
     (:func:`largerot.plotting.displacement_scale`), stated in the shape's legend.
     """
+    from PIL import Image
+
+    fig, show = animation_figure(path, points, node, dof, figsize, dpi, scale)
+    for k in range(len(points)):
+        show(k)
+        fig.canvas.draw()
+        yield Image.fromarray(np.asarray(fig.canvas.buffer_rgba())[..., :3].copy())
+
+
+def animation_figure(path: EquilibriumPath, points, node=None, dof=None, figsize=(8, 3.6),
+                     dpi: int = 80, scale: float | None = None):
+    """The figure an animation is drawn on, laid out, and ``show(k)`` that sets frame ``k``.
+
+    Returns ``(fig, show)``; ``show(k)`` moves the shape, arrows, title and marker to
+    ``points[k]`` without drawing.
+    """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
-    from PIL import Image
 
     if node is None or dof is None:
         node, dof = plotting.default_curve(path)
@@ -77,7 +92,7 @@ def render_frames(path: EquilibriumPath, points, node=None, dof=None, figsize=(8
     s = path.structure
     scale = plotting._resolved_scale(path, scale)
     fig = Figure(figsize=figsize, dpi=dpi)
-    canvas = FigureCanvasAgg(fig)
+    FigureCanvasAgg(fig)
     a1, a2 = fig.subplots(1, 2)
     shapes = [plotting._split_lines(member_lines(s, scale * path.u[i]), plotting._slack_mask(path, i))
               for i in points]
@@ -126,7 +141,9 @@ def render_frames(path: EquilibriumPath, points, node=None, dof=None, figsize=(8
     if scale != 1.0 or any_slack:
         plotting.place_legend(a1, handles=handles, title=plotting.scale_note(scale) or None)
     plotting.finish_layout(fig)
-    for k, i in enumerate(points):
+
+    def show(k: int) -> None:
+        i = points[k]
         deformed.set_segments(shapes[k][0])
         slack.set_segments(shapes[k][1])
         for (n, f, arr), (tail, head) in zip(arrows, ends[k]):
@@ -134,8 +151,8 @@ def render_frames(path: EquilibriumPath, points, node=None, dof=None, figsize=(8
             arr.set_visible(bool(np.any(tail != head)))
         title.set_text(titles[k])
         marker.set_data([x_all[i]], [path.load_factor[i]])
-        canvas.draw()
-        yield Image.fromarray(np.asarray(canvas.buffer_rgba())[..., :3].copy())
+
+    return fig, show
 
 
 def default_title(path: EquilibriumPath) -> str:
