@@ -89,7 +89,7 @@ def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     s = Structure()
     base, top = s.node(0.0, 0.0), s.node(0.0, 10.0)
     # hardening modulus 1 % of E: mild steel past yield (a round figure, invented)
-    tube = FibreSection.tube(E=210e9, fy=355e6, D=0.2, t=0.008, H=2.1e9, density=7850.0)
+    tube = FibreSection.tube(E=210e9, fy=355e6, diameter=0.2, wall=0.008, H=2.1e9, density=7850.0)
     pole = s.beam(base, top, tube, segments=segments)
     s.fix(base)
     post = Line(point=(1.2, 0.0), normal=(-1.0, 0.0))
