@@ -1,8 +1,8 @@
 """Built-in demonstrations (invented scenarios).
 
-* :func:`lighting_pole`: an 8 m glass-fibre tube pole (E = 25 GPa), clamped at its
-  base, pulled sideways at its top by a horizontal load that grows to 4 kN
-  (P·L²/EI ≈ 2.9) — ``python -m largerot demo``;
+* :func:`lighting_pole`: an 8 m glass-fibre tube pole (E = 25 GPa, a typical value
+  from memory), clamped at its base, pulled sideways at its top by a horizontal load
+  that grows to 4 kN (P·L²/EI ≈ 2.9) — ``python -m largerot demo``;
 * :func:`guyed_mast`: a 30 m steel tube mast, pinned at its base, held by two
   pretensioned guys, under its own weight and a growing lateral load at the top,
   traced until the leeward guy goes slack and beyond — ``python -m largerot demo mast``;
@@ -41,7 +41,7 @@ def guyed_mast(segments: int = 12, pretension: float = 40e3, lateral_load: float
     """The demo mast: returns ``(structure, nodes)`` with nodes ``base, top, windward, leeward``.
 
     Steel tube 400 × 12 mm, 30 m tall, pinned at the base; guys of 4 cm² steel rope
-    (E = 160 GPa) from the top to anchors 15 m either side, pretensioned to
+    (metallic area; E = 160 GPa, a typical rope modulus from memory) from the top to anchors 15 m either side, pretensioned to
     ``pretension``; self-weight held constant; the reference load ``lateral_load``
     pushes the top toward the leeward anchor.
     """
@@ -82,7 +82,8 @@ def run_mast_demo(png: str | None = "largerot-mast.png") -> str:
 def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     """The demo pole that yields and leans: returns ``(structure, nodes, wall)``.
 
-    Steel tube 200 × 8 mm (fy = 355 MPa, bilinear fibres hardening at 1 % of E), 10 m
+    Steel tube 200 × 8 mm (fy = 355 MPa, a common structural grade — typical value
+    from memory; bilinear fibres hardening at 1 % of E, an invented round figure), 10 m
     tall, clamped; the rigid wall of a neighbouring building 1.2 m away and 8 m high,
     which the pole may touch between 5 m and the wall's top; the reference load
     ``lateral_load`` pushes the top toward it, and above the wall the pole bends over.
