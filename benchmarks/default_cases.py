@@ -452,7 +452,7 @@ def fibre_cantilever():
     Load control aims at λ = 1 (the collapse load).
     """
     L = 2.0
-    sec = lr.FibreSection.rectangle(E=E, fy=FY, b=B, h=H, n_fibres=40)
+    sec = lr.FibreSection.rectangle(E=E, fy=FY, width=B, depth=H, n_fibres=40)
     s = lr.Structure()
     a, b = s.node(0.0, 0.0), s.node(L, 0.0)
     s.beam(a, b, sec, segments=20)

@@ -6,7 +6,9 @@ gives the factors λ of the reference load F_ref at which the structure, already
 carrying its constant loads F_const in full, loses stability. K0 is the tangent of
 the unloaded structure; Kσ(u) the geometric (stress) stiffness of the element forces
 of the linear state u. Without constant loads it is the classical (K0 + λ·Kσ)·φ = 0
-(Timoshenko & Gere 1961, *Theory of Elastic Stability*, for the problem).
+(Timoshenko & Gere 1961, *Theory of Elastic Stability*, 2nd ed., for the problem).
+The loads: none is dropped. Constant loads stay in full at every λ; λ scales only
+the reference loads.
 
 Pre-buckling state under the constant loads: linear, by choice
     The constant loads (self-weight from ``gravity(constant=True)``, constant nodal
@@ -115,8 +117,8 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
 
     * **Constant loads** (``constant=True`` nodal and line loads, self-weight from
       ``gravity()`` with its default ``constant=True``, and the out-of-balance force
-      of pretensioned cables) are applied in full, and only the reference load is
-      scaled: λ answers "how many times the reference load can the structure take on
+      of pretensioned cables) are applied in full — never dropped, never scaled by
+      λ — and only the reference load is scaled: λ answers "how many times the reference load can the structure take on
       top of the constant loads". Their pre-buckling state is the *linear* one,
       u_c = K0⁻¹·(F_const − f_int(0)), whose element forces give Kσ(u_c). If the
       constant loads alone are at or beyond buckling (K0 + Kσ(u_c) not positive

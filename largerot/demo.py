@@ -1,14 +1,18 @@
 """Built-in demonstrations (invented scenarios).
 
-* :func:`lighting_pole`: an 8 m glass-fibre tube pole (E = 25 GPa), clamped at its
-  base, pulled sideways at its top by a horizontal load that grows to 4 kN
-  (P·L²/EI ≈ 2.9) — ``python -m largerot demo``;
+* :func:`lighting_pole`: an 8 m glass-fibre tube pole (E = 25 GPa, a typical value
+  from memory), clamped at its base, pulled sideways at its top by a horizontal load
+  that grows to 4 kN (P·L²/EI ≈ 2.9) — ``python -m largerot demo``;
 * :func:`guyed_mast`: a 30 m steel tube mast, pinned at its base, held by two
   pretensioned guys, under its own weight and a growing lateral load at the top,
   traced until the leeward guy goes slack and beyond — ``python -m largerot demo mast``;
 * :func:`leaning_pole`: a 10 m steel tube pole, clamped, pushed sideways at the top
-  until it yields at its base and leans onto the face of a neighbouring building —
-  ``python -m largerot demo lean``.
+  until it yields at its base and leans onto the face of a neighbouring building;
+  traced until the top has moved 2.4 m — ``python -m largerot demo lean``.
+
+Each demo ends on the goal it sets itself: the pole and the mast on their target load
+factor (status ``"target"``), the leaning pole on a terminal event at its top's
+travel (status ``"event"``).
 """
 from __future__ import annotations
 
@@ -19,7 +23,7 @@ from .sections import Section
 from .solvers import by_load, trace
 
 __all__ = ["lighting_pole", "guyed_mast", "leaning_pole", "run_demo", "run_mast_demo",
-           "run_lean_demo"]
+           "run_lean_demo", "TopTravel"]
 
 
 def lighting_pole(segments: int = 32, tip_load: float = 4.0e3):
@@ -37,7 +41,7 @@ def guyed_mast(segments: int = 12, pretension: float = 40e3, lateral_load: float
     """The demo mast: returns ``(structure, nodes)`` with nodes ``base, top, windward, leeward``.
 
     Steel tube 400 × 12 mm, 30 m tall, pinned at the base; guys of 4 cm² steel rope
-    (E = 160 GPa) from the top to anchors 15 m either side, pretensioned to
+    (metallic area; E = 160 GPa, a typical rope modulus from memory) from the top to anchors 15 m either side, pretensioned to
     ``pretension``; self-weight held constant; the reference load ``lateral_load``
     pushes the top toward the leeward anchor.
     """
@@ -78,7 +82,8 @@ def run_mast_demo(png: str | None = "largerot-mast.png") -> str:
 def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     """The demo pole that yields and leans: returns ``(structure, nodes, wall)``.
 
-    Steel tube 200 × 8 mm (fy = 355 MPa, bilinear fibres hardening at 1 % of E), 10 m
+    Steel tube 200 × 8 mm (fy = 355 MPa, a common structural grade — typical value
+    from memory; bilinear fibres hardening at 1 % of E, an invented round figure), 10 m
     tall, clamped; the rigid wall of a neighbouring building 1.2 m away and 8 m high,
     which the pole may touch between 5 m and the wall's top; the reference load
     ``lateral_load`` pushes the top toward it, and above the wall the pole bends over.
@@ -89,7 +94,7 @@ def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     s = Structure()
     base, top = s.node(0.0, 0.0), s.node(0.0, 10.0)
     # hardening modulus 1 % of E: mild steel past yield (a round figure, invented)
-    tube = FibreSection.tube(E=210e9, fy=355e6, D=0.2, t=0.008, H=2.1e9, density=7850.0)
+    tube = FibreSection.tube(E=210e9, fy=355e6, diameter=0.2, wall=0.008, H=2.1e9, density=7850.0)
     pole = s.beam(base, top, tube, segments=segments)
     s.fix(base)
     post = Line(point=(1.2, 0.0), normal=(-1.0, 0.0))
@@ -98,29 +103,68 @@ def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     return s, {"base": base, "top": top}, post
 
 
+#: Sideways travel of the leaning pole's top at which its demo ends [m]: well past the
+#: wall (first touched at about 1.6 m), so the rise of the load on the wall shows.
+LEAN_TOP_TRAVEL = 2.4
+#: Bound on the lean demo's points: LEAN_TOP_TRAVEL / 0.05 m = 48 steps, with room for
+#: cut steps; the trace is meant to end on the event, never here.
+LEAN_MAX_STEPS = 200
+
+
+class TopTravel:
+    """Terminal event: ``node``'s ``ux`` reaches ``target`` (a picklable event function).
+
+    Crosses zero rising where the node has moved ``target`` along x; ``terminal`` ends
+    the trace there, located on the path by root finding.
+    """
+
+    terminal = True
+    direction = 1
+
+    def __init__(self, node: int, target: float) -> None:
+        self.node, self.target = node, float(target)
+        self.__name__ = f"top reaches ux = {self.target:g} m"
+
+    def __call__(self, point) -> float:
+        return point.displacement(self.node, "ux") - self.target
+
+
 def run_lean_demo(png: str | None = "largerot-lean.png") -> str:
-    """Trace the leaning pole: yield at the base, then the wall; table and PNG."""
+    """Trace the leaning pole: yield at the base, then the wall; table and PNG.
+
+    The trace ends, as planned, at the first point past a top travel of
+    ``LEAN_TOP_TRAVEL`` (a terminal event located on the path; status ``"event"``).
+    """
     from .solvers import by_displacement
 
     s, nodes, wall = leaning_pole()
     top = nodes["top"]
     # the top's sideways travel as control: the load plateaus once the base has
     # yielded through (a limit in load) and rises again when the pole meets the wall
-    path = trace(s, by_displacement(top, "ux", 0.05), max_steps=50)
+    path = trace(s, by_displacement(top, "ux", 0.05), events=[TopTravel(top, LEAN_TOP_TRAVEL)],
+                 max_steps=LEAN_MAX_STEPS)
     lines = ["largerot demo: 10 m steel pole yields at its base and leans on a wall (invented scenario)",
              f"{'load [kN]':>10} {'top ux [m]':>11} {'wall force [kN]':>16} {'base yielded':>13}"]
     step = max(1, len(path) // 14)
-    for i in list(range(0, len(path), step)) + [len(path) - 1]:
+    for i in sorted(set(range(0, len(path), step)) | {len(path) - 1}):
         lines.append(f"{10.0 * path.load_factor[i]:10.2f} {path.displacement(top, 'ux')[i]:11.4f}"
                      f" {path.contact_forces[i].sum() / 1e3:16.2f} {path.yielded[i, 0, 0]:13.0%}")
     for e in path.events:
         lines.append(f"{e.kind} at load {10.0 * e.load_factor:.2f} kN {e.detail}".rstrip())
-    return _report(lines, path, top, png)
+    end = None
+    if path.status == "event":
+        end = (f"ended as planned: the top has passed {LEAN_TOP_TRAVEL:g} m of travel toward "
+               "the wall, the event above")
+    return _report(lines, path, top, png, end=end)
 
 
-def _report(lines: list, path, node: int, png: str | None) -> str:
-    """End a demo's table: status, the figure (shapes beside the path of ``node``'s ux), caution."""
-    lines.append(f"status: {path.status} ({path.message})")
+def _report(lines: list, path, node: int, png: str | None, end: str | None = None) -> str:
+    """End a demo's table: status, the figure (shapes beside the path of ``node``'s ux), caution.
+
+    ``end`` says in words why a trace that ended well ended (instead of the status
+    table's general message).
+    """
+    lines.append(f"status: {path.status} ({end or path.message})")
     if png:
         import matplotlib
         matplotlib.use("Agg")

@@ -23,7 +23,7 @@ moment–curvature curve in the elastic–plastic range.
 
 Examples
 --------
->>> sec = FibreSection.rectangle(E=200e9, fy=250e6, b=0.05, h=0.1)
+>>> sec = FibreSection.rectangle(E=200e9, fy=250e6, width=0.05, depth=0.1)
 >>> round(sec.Mp / 1e3, 4), round(sec.My / 1e3, 4)
 (31.25, 20.8333)
 >>> r = sec.response(0.0, 4 * sec.kappa_y, sec.initial_state())
@@ -33,6 +33,7 @@ Examples
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import NamedTuple, Sequence
 
@@ -131,6 +132,25 @@ def _positive(name: str, value) -> float:
     return checked_number("Section", name, value, positive=True)
 
 
+def _renamed(shape: str, new: str, value, old: str, old_value):
+    """The value of argument ``new``, or of its old name ``old`` with a DeprecationWarning.
+
+    ``FibreSection.rectangle`` and ``.tube`` took ``b, h`` and ``D, t`` before they
+    took the names of :class:`largerot.sections.Section`'s constructors.
+    """
+    if old_value is None:
+        if value is None:
+            raise TypeError(f"FibreSection.{shape}() missing required argument `{new}`.")
+        return value
+    if value is not None:
+        raise TypeError(f"FibreSection.{shape}() got both `{new}` and its old name `{old}`; "
+                        f"give `{new}` only.")
+    warnings.warn(f"FibreSection.{shape}(): `{old}` is now called `{new}` (as in "
+                  f"Section.{shape}); the old name will be removed.", DeprecationWarning,
+                  stacklevel=3)
+    return old_value
+
+
 def _rect_layers(y_lo: float, y_hi: float, width: float, n: int):
     """Centroids and areas of n equal layers of a rectangle spanning [y_lo, y_hi]."""
     edges = np.linspace(y_lo, y_hi, n + 1)
@@ -210,24 +230,34 @@ class FibreSection:
 
     # -- constructors -----------------------------------------------------------
     @classmethod
-    def rectangle(cls, E: float, fy: float, b: float, h: float, H: float = 0.0,
-                  n_fibres: int = N_FIBRES, **extra) -> "FibreSection":
-        """Solid rectangle of width ``b``; the depth ``h`` lies in the bending plane."""
-        b, h = _positive("b", b), _positive("h", h)
+    def rectangle(cls, E: float, fy: float, width: float | None = None,
+                  depth: float | None = None, H: float = 0.0, n_fibres: int = N_FIBRES, *,
+                  b: float | None = None, h: float | None = None, **extra) -> "FibreSection":
+        """Solid rectangle of ``width``; its ``depth`` lies in the bending plane.
+
+        The argument names are those of :meth:`largerot.Section.rectangle`; the old
+        names ``b`` and ``h`` still work and give a DeprecationWarning.
+        """
+        b = _positive("width", _renamed("rectangle", "width", width, "b", b))
+        h = _positive("depth", _renamed("rectangle", "depth", depth, "h", h))
         n = _count("n_fibres", n_fibres, 2)
         y, dA = _rect_layers(-h / 2, h / 2, b, n)
         return cls(E, fy, H, y, dA, depth=h, W=b * h**2 / 6, Z=b * h**2 / 4,
                    shape=f"rectangle {b:g} × {h:g}", **extra)
 
     @classmethod
-    def tube(cls, E: float, fy: float, D: float, t: float, H: float = 0.0,
-             n_fibres: int = N_FIBRES, **extra) -> "FibreSection":
-        """Round tube of outer diameter ``D`` and wall ``t``, as horizontal strips.
+    def tube(cls, E: float, fy: float, diameter: float | None = None,
+             wall: float | None = None, H: float = 0.0, n_fibres: int = N_FIBRES, *,
+             D: float | None = None, t: float | None = None, **extra) -> "FibreSection":
+        """Round tube of outer ``diameter`` and ``wall`` thickness, as horizontal strips.
 
         Each strip has the exact area of the ring between its edges (circular
-        segments of the outer minus the inner circle) at its exact centroid.
+        segments of the outer minus the inner circle) at its exact centroid. The
+        argument names are those of :meth:`largerot.Section.tube`; the old names
+        ``D`` and ``t`` still work and give a DeprecationWarning.
         """
-        D, t = _positive("D", D), _positive("t", t)
+        D = _positive("diameter", _renamed("tube", "diameter", diameter, "D", D))
+        t = _positive("wall", _renamed("tube", "wall", wall, "t", t))
         if 2.0 * t > D:
             raise ModelError(f"Tube wall t = {t!r} is thicker than half the diameter D = {D!r}.")
         n = _count("n_fibres", n_fibres, 2)

@@ -471,7 +471,12 @@ class Structure:
         self._changed()
 
     def spring(self, node: int, dof: str, stiffness: float) -> None:
-        """Attach a linear spring between a node's DOF and the ground."""
+        """Attach a linear spring between a node's DOF and the ground.
+
+        ``stiffness`` is force per length (e.g. N/m) on ``"ux"`` and ``"uy"``, moment
+        per radian (e.g. N·m/rad) on ``"rz"``, in the structure's consistent units.
+        Springs on one DOF add up.
+        """
         node = self._check_node(node, "spring")
         dof_index(dof)
         k = _finite(f"Spring stiffness at node {node} {dof}", stiffness)

@@ -172,7 +172,14 @@ class EquilibriumPath(_Displacements):
 
     @property
     def success(self) -> bool:
-        """True for a trace that ended well (a positive status code)."""
+        """True for a trace that ended well: any positive status code.
+
+        That is every status but ``"failed"``: ``"target"``, ``"stopped"``,
+        ``"event"``, ``"limit"`` (load control stopped at a limit point, as it
+        should), ``"interrupted"`` and also ``"max_steps"`` (the number of steps
+        asked for was taken, whether or not a goal was reached). To know whether a
+        target load factor was reached, test ``path.status == "target"``.
+        """
         return self.status_code > 0
 
     def __getstate__(self) -> dict:
@@ -182,7 +189,14 @@ class EquilibriumPath(_Displacements):
 
     @property
     def stable(self) -> np.ndarray:
-        """True where the tangent is positive definite, shape (n_points,)."""
+        """True where the tangent has no negative eigenvalue, shape (n_points,).
+
+        A static check (``n_negative == 0``). For a symmetric tangent (conservative
+        loads) that is stability. For a non-symmetric tangent (follower loads) it
+        finds divergence only — a real eigenvalue through zero — and not flutter, a
+        growing oscillation that a static analysis cannot see (it needs the masses):
+        a follower-loaded point marked stable may still be unstable by flutter.
+        """
         return self.n_negative == 0
 
     @property

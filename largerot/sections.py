@@ -28,17 +28,23 @@ class Section:
     Parameters
     ----------
     E : float
-        Young's modulus.
+        Young's modulus [force/length², e.g. Pa].
     A : float
-        Area.
+        Area [length², e.g. m²].
     I : float, optional
-        Second moment of area for bending in the plane; needed by beams only.
+        Second moment of area for bending in the plane [length⁴]; needed by beams only.
     density : float, optional
-        Mass per unit volume; with gravity it gives self-weight.
+        Mass per unit volume [mass/length³, e.g. kg/m³]; with ``s.gravity()`` it gives
+        the self-weight ρ·A·g per unit length.
     fy : float, optional
-        Yield stress (used by yield checks); ``None`` when not given.
+        Yield stress, ``None`` when not given. Only stored, for your own checks (e.g.
+        σ = N/A + M·depth/(2I) against fy from ``path.member_forces``): nothing in
+        largerot reads it from an elastic Section, and a beam of a Section never
+        yields. For yielding use :class:`largerot.FibreSection`.
     depth : float, optional
-        Overall depth in the plane of bending, for extreme-fibre stresses.
+        Overall depth in the plane of bending (set by :meth:`tube`, :meth:`rectangle`
+        and :meth:`rod`). Only stored, like ``fy``: nothing in largerot reads it from
+        an elastic Section.
 
     Examples
     --------
@@ -67,7 +73,10 @@ class Section:
 
     @classmethod
     def tube(cls, E: float, diameter: float, wall: float, **extra) -> "Section":
-        """Round tube of outer ``diameter`` and ``wall`` thickness."""
+        """Round tube of outer ``diameter`` and ``wall`` thickness.
+
+        The same argument names as :meth:`largerot.FibreSection.tube`.
+        """
         d = _check("diameter", diameter, positive=True)
         t = _check("wall", wall, positive=True)
         if 2.0 * t > d:
@@ -79,14 +88,23 @@ class Section:
 
     @classmethod
     def rectangle(cls, E: float, width: float, depth: float, **extra) -> "Section":
-        """Solid rectangle; ``depth`` lies in the plane of bending."""
+        """Solid rectangle of ``width``; its ``depth`` lies in the plane of bending.
+
+        The same argument names as :meth:`largerot.FibreSection.rectangle`.
+        """
         b = _check("width", width, positive=True)
         h = _check("depth", depth, positive=True)
         return cls(E=E, A=b * h, I=b * h**3 / 12.0, depth=h, **extra)
 
     @classmethod
     def rod(cls, E: float, diameter: float, **extra) -> "Section":
-        """Solid round rod (also a fair model of a wire rope's metallic area)."""
+        """Solid round rod of ``diameter``: A = πd²/4, I = πd⁴/64.
+
+        Not a wire rope of that nominal diameter: a stranded rope's metallic area is
+        only about 0.5–0.6 of πd²/4 (a fill factor; common practice, from memory — take
+        the maker's figure), and its modulus is below that of the wire. For a rope give
+        ``Section(E=..., A=...)`` with the rope's own metallic area and modulus.
+        """
         d = _check("diameter", diameter, positive=True)
         return cls(E=E, A=math.pi * d**2 / 4.0, I=math.pi * d**4 / 64.0, depth=d, **extra)
 

@@ -164,7 +164,7 @@ def test_fibre_column_buckles_like_the_elastic_section():
     # A and I summed over the fibres), so linear buckling gives the same factors and
     # modes (to round-off: measured 9e-13 and 2e-13) and Euler's π²EI/(4L²) (Timoshenko & Gere
     # 1961, ch. 2) for the axial part: 10 elements, measured 8e-7, tolerance 1e-5.
-    fs = lr.FibreSection.rectangle(E=200e9, fy=250e6, b=0.05, h=0.1, H=0.01 * 200e9)
+    fs = lr.FibreSection.rectangle(E=200e9, fy=250e6, width=0.05, depth=0.1, H=0.01 * 200e9)
     el = lr.Section(E=fs.E, A=fs.A, I=fs.I)
     rf = lr.buckling(fibre_column(fs), modes=3)
     re = lr.buckling(fibre_column(el), modes=3)
@@ -182,7 +182,7 @@ def test_fibre_column_buckles_like_the_elastic_section():
 def test_fibre_buckling_ignores_the_history_of_an_earlier_trace():
     # Linear buckling is about the virgin elastic structure: after a trace that yields
     # the fibre column at its base, the factors are those before it (to round-off).
-    fs = lr.FibreSection.rectangle(E=200e9, fy=250e6, b=0.05, h=0.1, H=0.01 * 200e9)
+    fs = lr.FibreSection.rectangle(E=200e9, fy=250e6, width=0.05, depth=0.1, H=0.01 * 200e9)
     s = lr.Structure()
     a, b = s.node(0.0, 0.0), s.node(0.0, 2.0)
     s.beam(a, b, fs, segments=10)

@@ -142,7 +142,7 @@ def test_an_interrupt_at_random_moments_leaves_a_consistent_trace_that_goes_on()
     # same end point as an uninterrupted trace (the target, to Newton's tolerance).
     s = lr.Structure()
     a, b = s.node(0.0, 0.0), s.node(2.0, 0.0)
-    s.beam(a, b, lr.FibreSection.rectangle(E=200e9, fy=250e6, b=0.05, h=0.1, n_fibres=12),
+    s.beam(a, b, lr.FibreSection.rectangle(E=200e9, fy=250e6, width=0.05, depth=0.1, n_fibres=12),
            segments=30)
     s.fix(a)
     s.load(b, fy=-31.25e3 / 2.0)

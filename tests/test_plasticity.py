@@ -106,7 +106,7 @@ def test_rectangle_moment_curvature_within_half_percent():
     # Default layout (20 layers) against the closed form over κ/κy from 0.05 to 30;
     # demanded 0.5 %; the midpoint rule's error is 1/n² = 0.25 % (EI short by the
     # layers' own second moment), the largest anywhere on the curve.
-    sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT)
+    sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT)
     My, Mp = FY * B * H_RECT**2 / 6, FY * B * H_RECT**2 / 4      # closed forms (Neal 1977)
     assert sec.My == pytest.approx(My, rel=1e-14) and sec.Mp == pytest.approx(Mp, rel=1e-14)
     kappa = np.linspace(0.05, 30.0, 600) * sec.kappa_y
@@ -126,7 +126,7 @@ def test_rectangle_moment_curvature_converges_at_second_order():
     # layers must be 2 within 0.1.
     errs = []
     for n in (10, 20, 40):
-        sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT, n_fibres=n)
+        sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT, n_fibres=n)
         kappa = np.linspace(0.05, 30.0, 400) * sec.kappa_y
         ref = _m_rectangle_closed_form(kappa, sec.kappa_y, sec.Mp, sec.My)
         errs.append(np.abs(_section_moments(sec, kappa).M / ref - 1.0).max())
@@ -134,11 +134,12 @@ def test_rectangle_moment_curvature_converges_at_second_order():
     assert np.all(np.abs(orders - 2.0) < 0.1), orders
 
 
-TUBE = dict(D=0.2, t=0.01)
+TUBE = dict(diameter=0.2, wall=0.01)
 ISHAPE = dict(h=0.3, b=0.15, tw=0.007, tf=0.011)
 
 
-def _z_tube(D, t):
+def _z_tube(diameter, wall):
+    D, t = diameter, wall
     # Plastic modulus of a round tube (D³ − d³)/6 (Steel Designers' Manual, section
     # property formulae; from memory).
     return (D**3 - (D - 2 * t) ** 3) / 6
@@ -168,7 +169,7 @@ def test_plastic_moment_matches_handbook(kind, layout):
     assert sec.Mp == pytest.approx(zref * FY, rel=1e-14)
 
 
-@pytest.mark.parametrize("sec", [FibreSection.rectangle(E, FY, b=B, h=H_RECT),
+@pytest.mark.parametrize("sec", [FibreSection.rectangle(E, FY, width=B, depth=H_RECT),
                                  FibreSection.tube(E, FY, **TUBE),
                                  FibreSection.i_shape(E, FY, **ISHAPE)])
 def test_first_yield_event_at_yield_moment(sec):
@@ -186,8 +187,8 @@ def test_first_yield_event_at_yield_moment(sec):
     assert root == pytest.approx(0.7 * sec.kappa_y, rel=1e-12)
 
 
-def _width_tube(y, D, t):
-    R, r = D / 2, D / 2 - t
+def _width_tube(y, diameter, wall):
+    R, r = diameter / 2, diameter / 2 - wall
     return 2 * np.sqrt(max(R * R - y * y, 0.0)) - 2 * np.sqrt(max(r * r - y * y, 0.0))
 
 
@@ -196,7 +197,7 @@ def _width_ishape(y, h, b, tw, tf):
 
 
 @pytest.mark.parametrize("sec, width, half", [
-    (FibreSection.tube(E, FY, **TUBE), lambda y: _width_tube(y, **TUBE), TUBE["D"] / 2),
+    (FibreSection.tube(E, FY, **TUBE), lambda y: _width_tube(y, **TUBE), TUBE["diameter"] / 2),
     (FibreSection.i_shape(E, FY, **ISHAPE), lambda y: _width_ishape(y, **ISHAPE), ISHAPE["h"] / 2),
 ])
 def test_moment_curvature_of_tube_and_ishape(sec, width, half):
@@ -214,7 +215,7 @@ def test_moment_curvature_of_tube_and_ishape(sec, width, half):
     M = _section_moments(sec, ks).M
     assert np.abs(M / np.array(ref) - 1.0).max() < 5e-3
     if "tube" in sec.shape:
-        D, d = TUBE["D"], TUBE["D"] - 2 * TUBE["t"]
+        D, d = TUBE["diameter"], TUBE["diameter"] - 2 * TUBE["wall"]
         I = np.pi / 64 * (D**4 - d**4)                # Roark's Formulas, table of sections
     else:
         h, b, tw, tf = (ISHAPE[k] for k in ("h", "b", "tw", "tf"))
@@ -227,7 +228,7 @@ def test_section_unloading_is_elastic_with_residual_curvature():
     # Elastic unloading (slope EI) leaves κr = κmax − Mmax/EI and an extreme-fibre
     # residual stress fy − Mmax/W (Megson 2005, *Structural and Stress Analysis*,
     # plastic bending; from memory). Linear on the elastic branch, so 1e-9.
-    sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT)
+    sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT)
     kmax = 3 * sec.kappa_y
     loaded = _section_moments(sec, kmax)
     committed = loaded.state
@@ -260,7 +261,7 @@ def _fd_section(sec, eps0, kappa, state, h_eps, h_k):
 
 
 @pytest.mark.parametrize("make", [
-    lambda: FibreSection.rectangle(E, FY, b=B, h=H_RECT, H=0.02 * E),
+    lambda: FibreSection.rectangle(E, FY, width=B, depth=H_RECT, H=0.02 * E),
     lambda: FibreSection.tube(E, FY, **TUBE),
     lambda: FibreSection.i_shape(E, FY, **ISHAPE, H=0.01 * E),
 ])
@@ -284,7 +285,7 @@ def test_section_tangent_is_derivative_of_forces(make):
 
 
 def test_stack_pads_with_zero_area_fibres():
-    a = FibreSection.rectangle(E, FY, b=B, h=H_RECT, n_fibres=10)
+    a = FibreSection.rectangle(E, FY, width=B, depth=H_RECT, n_fibres=10)
     b = FibreSection.tube(E, 2 * FY, **TUBE, n_fibres=16)
     t = stack([a, b], [1, 0, 1])
     assert t.y.shape == (3, 16) and np.all(t.dA[1, 10:] == 0.0)
@@ -293,9 +294,9 @@ def test_stack_pads_with_zero_area_fibres():
 
 def test_section_rejects_bad_shapes():
     with pytest.raises(ModelError, match="wall t = 0.2 is thicker than half the diameter D = 0.2"):
-        FibreSection.tube(E, FY, D=0.2, t=0.2)
+        FibreSection.tube(E, FY, diameter=0.2, wall=0.2)
     with pytest.raises(ModelError, match="`n_fibres` must be an integer of at least 2, got 1"):
-        FibreSection.rectangle(E, FY, b=B, h=H_RECT, n_fibres=1)
+        FibreSection.rectangle(E, FY, width=B, depth=H_RECT, n_fibres=1)
 
 
 # -- fibre beam -------------------------------------------------------------------
@@ -367,7 +368,7 @@ def test_fibre_beam_yielded_is_objective():
     # A rigid rotation (two full turns plus 0.7 rad) and translation of a yielded
     # element leaves its local forces and fibre state unchanged (common practice,
     # no source); round-off of the local rotations ~1e-15.
-    sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT)
+    sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT)
     dX, L0, u = _random_beams(5, 4, 0.7 * sec.kappa_y, 0.3 * EPS_Y, rotation_scale=0.0)
     st = fibre_beam.initial_state(4, sec.n_fibres)
     r0 = fibre_beam.response(dX, L0, u, sec.table, st)
@@ -390,7 +391,7 @@ def test_fibre_beam_plastic_end_moment_and_unloading():
     # (Neal 1977; from memory). Unloading θ2 back to 0 from a committed state leaves
     # a residual end moment (plastic strain remains), and the unloading slope of M2
     # is the elastic 4EI/L (linear elastic branch, 1e-9).
-    sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT)
+    sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT)
     dX, L0 = np.array([[1.0, 0.0]]), np.array([1.0])
     st = fibre_beam.initial_state(1, sec.n_fibres)
     th = 250 * sec.kappa_y * L0[0] / 4                    # κ(1) = 4θ/L = 250·κy
@@ -407,7 +408,7 @@ def test_fibre_beam_plastic_end_moment_and_unloading():
 
 
 def test_fibre_beam_rejects_mismatched_state():
-    sec = FibreSection.rectangle(E, FY, b=B, h=H_RECT)
+    sec = FibreSection.rectangle(E, FY, width=B, depth=H_RECT)
     dX, L0 = np.array([[1.0, 0.0]]), np.array([1.0])
     with pytest.raises(ModelError, match=r"Fibre state must have shape .* = \(1, n_gauss, 20\), got \(1, 3, 10\)"):
         fibre_beam.response(dX, L0, np.zeros((1, 6)), sec.table, fibre_beam.initial_state(1, 10))

@@ -21,7 +21,7 @@ def yielding_cantilever_on_stop(segments: int = 12):
     """A fibre-section cantilever that yields and then meets a stop below its tip."""
     s = lr.Structure()
     a, b = s.node(0.0, 0.0), s.node(L, 0.0)
-    s.beam(a, b, lr.FibreSection.rectangle(E=E, fy=FY, b=B, h=H, n_fibres=16), segments=segments)
+    s.beam(a, b, lr.FibreSection.rectangle(E=E, fy=FY, width=B, depth=H, n_fibres=16), segments=segments)
     s.fix(a)
     s.contact(b, lr.Line(point=(L, -0.05), normal=(0.0, 1.0)))
     s.load(b, fy=-MP / L)
@@ -121,7 +121,7 @@ def test_first_yield_located_by_root_finding_whatever_the_step():
         assert len(first) == 1
         found.append(first[0])
     assert max(found) - min(found) <= 1e-6 * found[0]
-    sec = lr.FibreSection.rectangle(E=E, fy=FY, b=B, h=H, n_fibres=16)
+    sec = lr.FibreSection.rectangle(E=E, fy=FY, width=B, depth=H, n_fibres=16)
     assert found[0] == pytest.approx(sec.EI * sec.kappa_y / MP, rel=3e-4)
     at = lr.trace(s, lr.by_load(0.1), target_load_factor=found[0])
     assert abs(float(at.extra["yield_margin"][-1])) <= 1e-6
@@ -176,7 +176,7 @@ def every_kind():
     s = lr.Structure()
     a, b, c, d = s.node(0, 0), s.node(1.0, 0.2), s.node(2.0, 0.0), s.node(1.0, -1.0)
     s.beam(a, b, lr.Section(E=100.0, A=1.0, I=0.01), segments=2)
-    s.beam(b, c, lr.FibreSection.rectangle(E=100.0, fy=1.0, b=0.2, h=0.3, n_fibres=6), segments=2)
+    s.beam(b, c, lr.FibreSection.rectangle(E=100.0, fy=1.0, width=0.2, depth=0.3, n_fibres=6), segments=2)
     s.bar(a, d, lr.Section(E=50.0, A=1.0))
     s.cable(d, c, lr.Section(E=80.0, A=1.0), pretension=40.0)   # taut: slack has a regularised tangent
     s.fix(a)

@@ -28,7 +28,7 @@ def fibre_cantilever_on_stop():
     """Yields at its root (fibre history), then meets a stop (contact)."""
     s = lr.Structure()
     a, b = s.node(0.0, 0.0), s.node(L, 0.0)
-    s.beam(a, b, lr.FibreSection.rectangle(E=E, fy=FY, b=B, h=H, n_fibres=16), segments=12)
+    s.beam(a, b, lr.FibreSection.rectangle(E=E, fy=FY, width=B, depth=H, n_fibres=16), segments=12)
     s.fix(a)
     s.contact(b, lr.Line(point=(L, -0.05), normal=(0.0, 1.0)))
     s.load(b, fy=-MP / L)

@@ -16,7 +16,7 @@ MY = FY * B * H**2 / 6            # first-yield moment
 
 
 def plastic_rectangle(n_fibres: int = 40):
-    return lr.FibreSection.rectangle(E=E, fy=FY, b=B, h=H, n_fibres=n_fibres)
+    return lr.FibreSection.rectangle(E=E, fy=FY, width=B, depth=H, n_fibres=n_fibres)
 
 
 def beam_on_supports(support: str, L: float = 2.0, segments: int = 200):

@@ -41,7 +41,7 @@ out; nothing is modified in place.
 Examples
 --------
 >>> from largerot.fibres import FibreSection
->>> sec = FibreSection.rectangle(E=200e9, fy=250e6, b=0.05, h=0.1)
+>>> sec = FibreSection.rectangle(E=200e9, fy=250e6, width=0.05, depth=0.1)
 >>> dX, L0 = np.array([[1.0, 0.0]]), np.array([1.0])
 >>> u = np.array([[0.0, 0.0, 0.0, 0.0, 0.0, 1e-3]])       # tip rotation, elastic
 >>> res = response(dX, L0, u, sec.table, initial_state(1, sec.n_fibres))

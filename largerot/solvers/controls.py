@@ -75,7 +75,23 @@ class by_load(StepControl):
 class by_displacement(StepControl):
     """Displacement control: ``node``'s ``dof`` advances by ``step`` per point.
 
-    Passes limit points in load; λ is solved for with a bordered system.
+    Passes limit points in load; λ is solved for with a bordered system. It cannot
+    pass a turning point of its own DOF (snap-back): use :class:`by_arc_length`.
+
+    Parameters
+    ----------
+    node : int
+        The node whose displacement is prescribed; its ``dof`` must be free.
+    dof : str
+        ``"ux"``, ``"uy"`` (lengths) or ``"rz"`` (radians).
+    step : float
+        Increment of that displacement per point, in its units; negative to move
+        the other way. Not zero.
+    min_step : float, optional
+        Smallest increment tried when a failed step is halved (default ``step/1024``).
+
+    A structure with no reference load, or a restrained ``dof``, is refused with a
+    ModelError when the stepper starts.
     """
 
     node: int
