@@ -63,7 +63,7 @@ function render({ model, el }) {
   canvas.style.cursor = "crosshair";
   const readout = document.createElement("div");
   readout.className = "largerot-readout";
-  readout.style.cssText = "font: 13px monospace; padding: 4px 2px; white-space: pre-wrap;";
+  readout.style.cssText = "font: 13px monospace; padding: 4px 2px; white-space: pre-wrap; max-width: 100%;";
   root.append(canvas, readout);
   el.append(root);
 
@@ -408,7 +408,7 @@ function render({ model, el }) {
     ctx.drawImage(layer, 0, 0);
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     const nf = d.nf;
-    if (!nf) { readout.textContent = "(empty path)"; return; }
+    if (!nf) { setReadout("(empty path)"); return; }
     const i = Math.max(0, Math.min(nf - 1, shown));
     const base = i * d.nv * 2;
     const xy = d.frames;
@@ -444,12 +444,27 @@ function render({ model, el }) {
     ctx.fillStyle = COLORS.marker; ctx.strokeStyle = "white"; ctx.lineWidth = 1.5;
     ctx.beginPath(); ctx.arc(g.PX(d.cx[i]), g.PY(d.cy[i]), 5.5, 0, 2 * Math.PI); ctx.fill(); ctx.stroke();
     // readout: the text of each frame comes from the kernel
-    readout.textContent = d.readouts[i] || "";
+    setReadout(d.readouts[i] || "");
     readout.dataset.index = String(i);
     stats.draws += 1;
     stats.drawMs += performance.now() - t0;
     stats.last = performance.now();
     canvas.dataset.draws = String((+canvas.dataset.draws || 0) + 1);
+  }
+
+  function setReadout(text) {
+    // the parts of a readout line ("ux[3] = 0.5") never break inside
+    if (readout.dataset.text === text) return;
+    readout.dataset.text = text;
+    const nodes = [];
+    text.split("   ").forEach((part, k) => {
+      if (k) nodes.push(document.createTextNode("   "));
+      const span = document.createElement("span");
+      span.style.whiteSpace = "nowrap";
+      span.textContent = part;
+      nodes.push(span);
+    });
+    readout.replaceChildren(...nodes);
   }
 
   function schedule() {
@@ -495,6 +510,13 @@ function render({ model, el }) {
     }
     if (best !== d.hovered) { d.hovered = best; schedule(); }
   });
+  // where node `n` is drawn in the frame shown, CSS pixels from the canvas corner (tests)
+  canvas.largerotNodePixel = (n) => {
+    const h = d.hover.find((x) => x.node === n), g = d.g;
+    if (!h || !d.nf) return null;
+    const base = Math.max(0, Math.min(d.nf - 1, shown)) * d.nv * 2;
+    return [g.X(d.frames[base + 2 * h.v]), g.Y(d.frames[base + 2 * h.v + 1])];
+  };
   canvas.addEventListener("mouseleave", () => { if (d.hovered >= 0) { d.hovered = -1; schedule(); } });
 
   // -- playback ------------------------------------------------------------------

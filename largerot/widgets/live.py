@@ -361,7 +361,8 @@ class Live(w.VBox):
             end = f" — {html.escape(st.status)}: {html.escape(st.message)}" if not st.running else ""
             self.state_label.value = (
                 f"&nbsp;<b style='color:{colour}' data-state='{self.state}'>{words}</b>{end} · "
-                f"{n} points, λ = {data.format_value(lam)}, step {data.format_value(st.h)}")
+                f"{n} point{'s' if n != 1 else ''}, λ = {data.format_value(lam)}, "
+                f"step {data.format_value(st.h)}")
             self.log_view.value = "<pre style='margin:2px'>" + html.escape(
                 "\n".join(reversed(self.messages[-12:]))) + "</pre>"
 

@@ -115,7 +115,8 @@ def parameter_widget(name: str, spec, default=None) -> w.ValueWidget:
         start = lo + round((mid - lo) / step) * step
     start = float(np.round(start, 12))
     return w.FloatSlider(min=lo, max=hi, step=step, value=start, description=name,
-                         continuous_update=True, readout_format=".4g", style=style)
+                         continuous_update=True, style=style,
+                         readout_format=".4")   # d3: 4 significant digits, no trailing zeros
 
 
 class Study(w.VBox):
