@@ -132,7 +132,10 @@ def test_bad_magnification_is_shown_in_the_widget(pole):
     ex = lr.widgets.explore(path)
     ex.scale = -1.0
     assert "scale" in ex.error
-    assert any("must be positive" in o.get("text", "") for o in ex.errors.outputs)
+    # one line in the panel, the traceback behind "details"
+    assert ex.errors.message == "ValueError: `scale` must be positive, got -1.0."
+    assert "Traceback" in ex.errors.details and "<details" in ex.errors.value
+    assert ex.errors.layout.display == ""
 
 
 def test_layout_joins_element_chains_and_keeps_bars_apart():
@@ -203,15 +206,17 @@ def test_live_runs_to_a_number_of_points_and_takes_edited_steps():
     assert any("Reached the target displacement" in m for m in lv.messages)
 
 
-def test_stepping_an_ended_trace_shows_the_error_in_the_widget():
+def test_an_ended_trace_disables_step_and_run_and_says_so_without_a_traceback():
     s, base, top = lighting_pole(segments=4)
     lv = lr.widgets.live(s, lr.by_load(0.5), target_load_factor=0.5)
     lv.step()
-    assert lv.stepper.status == "target" and lv.error == ""
-    assert lv.step() is None
-    assert "RuntimeError" in lv.error
-    assert any("has ended" in o.get("text", "") for o in lv.errors.outputs)
-    assert lv.errors.layout.display == ""
+    assert lv.stepper.status == "target" and lv.state == "finished" and lv.error == ""
+    assert lv.step_button.disabled and lv.run_button.disabled and not lv.reset_button.disabled
+    assert lv.step() is None and lv.run() is None
+    lv.run_button.click()                     # a disabled button's click does nothing
+    assert lv.error == "" and lv.errors.layout.display == "none"
+    assert "press reset" in lv.messages[-1]
+    assert "finished" in lv.state_label.value
 
 
 def test_live_reports_a_change_of_stability():
@@ -263,10 +268,15 @@ def test_study_shows_build_errors_in_the_widget():
     assert st.error == ""
     st.controls["height"].value = 8.0
     assert "too tall" in st.error
-    assert any("too tall" in o.get("text", "") for o in st.errors.outputs)
+    # one line, the traceback folded; the old result greyed out
+    assert st.errors.message == "ValueError: height 8.0 is too tall for this test"
+    assert "Traceback" in st.errors.details
+    assert st.explorer.stale and st.explorer.canvas.stale
+    assert "failed" in st.status_label.value and "height = 3" in st.status_label.value
     assert st.values["height"] == 3.0                   # the last good path stays shown
     st.controls["height"].value = 2.0
-    assert st.error == "" and st.errors.outputs == ()
+    assert st.error == "" and st.errors.message == "" and st.errors.layout.display == "none"
+    assert not st.explorer.stale
 
 
 def test_study_rejects_a_build_returning_something_else():

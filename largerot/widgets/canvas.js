@@ -1,14 +1,23 @@
 // largerot path explorer: deformed shape beside the equilibrium path, on one canvas.
 // Data arrive once as binary buffers; a change of `index` only redraws (one frame per
 // animation frame at most). Static parts are drawn into an off-screen layer.
+// Playback runs here, paced by requestAnimationFrame: each display refresh shows the
+// frame due at that time (frames are skipped so a whole path takes `play_seconds`),
+// and the index goes back to the kernel only a few times a second.
 
+// Diagram signs in two colours that colour-blind readers tell apart (Okabe & Ito 2008,
+// "Color Universal Design": blue and vermillion).
+const POS = "#0072b2", NEG = "#d55e00";
 const COLORS = {
-  deformed: "#1f5fa8", bar: "#2e8b57", ghost: "#b5b5b5", support: "#333333",
+  deformed: "#222222", bar: "#555555", ghost: "#b5b5b5", support: "#333333",
   load: "#c0392b", constant: "#7f7f7f", stable: "#1f5fa8", unstable: "#e67e22",
   critical: "#8e44ad", marker: "#c0392b", axis: "#555555", grid: "#e6e6e6",
-  N: ["rgba(46,139,87,0.35)", "#2e8b57"], V: ["rgba(142,68,173,0.30)", "#8e44ad"],
-  M: ["rgba(192,57,43,0.30)", "#c0392b"],
+  pos: [POS, "rgba(0,114,178,0.28)"], neg: [NEG, "rgba(213,94,0,0.28)"], hover: "#111111",
 };
+// Milliseconds between index updates sent to the kernel while playing.
+const PLAY_SYNC_MS = 250;
+// Pixels within which the pointer picks a node.
+const HOVER_PX = 12;
 
 function typed(model, name, Kind) {
   const v = model.get(name);
@@ -19,12 +28,18 @@ function typed(model, name, Kind) {
   return new Kind(buf.slice(off, off + v.byteLength));
 }
 
+// 4 significant digits, powers of ten as e5: the rule of largerot.widgets.data.format_value
 function fmt(v) {
   if (!isFinite(v)) return "—";
   if (v === 0) return "0";
   const a = Math.abs(v);
-  if (a >= 1e5 || a < 1e-4) return v.toExponential(3);
-  return String(parseFloat(v.toPrecision(4)));
+  if (a >= 1e-3 && a < 1e4) {
+    const p = v.toPrecision(4);
+    if (!p.includes("e")) return String(parseFloat(p));
+  }
+  let [m, e] = v.toExponential(3).split("e");
+  if (m.includes(".")) m = m.replace(/0+$/, "").replace(/\.$/, "");
+  return `${m}e${parseInt(e, 10)}`;
 }
 
 function niceTicks(lo, hi, n) {
@@ -48,7 +63,7 @@ function render({ model, el }) {
   canvas.style.cursor = "crosshair";
   const readout = document.createElement("div");
   readout.className = "largerot-readout";
-  readout.style.cssText = "font: 13px monospace; padding: 4px 2px; white-space: pre-wrap;";
+  readout.style.cssText = "font: 13px monospace; padding: 4px 2px; white-space: pre-wrap; max-width: 100%;";
   root.append(canvas, readout);
   el.append(root);
 
@@ -65,12 +80,13 @@ function render({ model, el }) {
     d.cy = typed(model, "curve_y", Float32Array);
     d.stable = typed(model, "stable", Uint8Array);
     d.points = typed(model, "points", Int32Array);
-    d.table = typed(model, "table", Float64Array);
+    d.nodeU = typed(model, "node_u", Float32Array);
+    d.hover = model.get("hover_nodes") || [];
+    d.readouts = model.get("readouts") || [];
     d.forces = typed(model, "forces", Float32Array);
     d.ends = typed(model, "element_ends", Int32Array);
     d.nv = model.get("n_vertices");
     d.nf = model.get("n_frames");
-    d.labels = model.get("table_labels");
     d.bounds = model.get("bounds");
     d.critical = model.get("critical");
     d.symbols = model.get("symbols");
@@ -79,7 +95,8 @@ function render({ model, el }) {
   function geometry() {
     const W = model.get("width"), H = model.get("height");
     const split = Math.round(W * 0.48);
-    const g = { W, H, shape: [8, 8, split - 16, H - 16], plot: [split + 56, 12, W - split - 72, H - 52] };
+    // a legend row above each panel, never on the drawing or the curve
+    const g = { W, H, shape: [8, 26, split - 16, H - 34], plot: [split + 56, 26, W - split - 72, H - 66] };
     const [x0, x1, y0, y1] = d.bounds;
     const size = Math.max(x1 - x0, y1 - y0) || 1;
     const pad = 0.1 * size;
@@ -247,11 +264,116 @@ function render({ model, el }) {
       ctx.closePath(); ctx.fill();
       ctx.fillText(`${c.kind} λ=${fmt(c.y)}`, x + 8, y - 6);
     }
-    // legend
-    ctx.fillStyle = COLORS.stable; ctx.fillRect(px + 8, py + 8, 14, 3);
-    ctx.fillStyle = COLORS.axis; ctx.fillText("stable", px + 26, py + 13);
-    ctx.fillStyle = COLORS.unstable; ctx.fillRect(px + 8, py + 22, 6, 3); ctx.fillRect(px + 16, py + 22, 6, 3);
-    ctx.fillStyle = COLORS.axis; ctx.fillText("unstable", px + 26, py + 27);
+    // legend: a row above the plot, off the curve
+    ctx.font = "11px sans-serif"; ctx.textAlign = "left";
+    let lx = px, ly = py - 10;
+    ctx.fillStyle = COLORS.stable; ctx.fillRect(lx, ly - 4, 16, 2.5);
+    ctx.fillStyle = COLORS.axis; ctx.fillText("stable", lx + 20, ly); lx += 20 + ctx.measureText("stable").width + 14;
+    ctx.fillStyle = COLORS.unstable; ctx.fillRect(lx, ly - 4, 6, 2.5); ctx.fillRect(lx + 10, ly - 4, 6, 2.5);
+    ctx.fillStyle = COLORS.axis; ctx.fillText("unstable", lx + 20, ly); lx += 20 + ctx.measureText("unstable").width + 14;
+    if ((d.critical || []).length) {
+      ctx.fillStyle = COLORS.critical;
+      ctx.beginPath(); ctx.moveTo(lx + 5, ly - 8); ctx.lineTo(lx + 10, ly - 3); ctx.lineTo(lx + 5, ly + 2);
+      ctx.lineTo(lx, ly - 3); ctx.closePath(); ctx.fill();
+      ctx.fillStyle = COLORS.axis; ctx.fillText("critical point", lx + 14, ly);
+    }
+  }
+
+  function label(ctx, text, x, y, color, align) {
+    // text with a white halo, readable over lines and fills
+    ctx.save();
+    ctx.font = "bold 11px sans-serif"; ctx.textAlign = align; ctx.textBaseline = "middle";
+    ctx.lineJoin = "round"; ctx.lineWidth = 3.5; ctx.strokeStyle = "white";
+    ctx.strokeText(text, x, y);
+    ctx.fillStyle = color; ctx.fillText(text, x, y);
+    ctx.restore();
+  }
+
+  function forceDiagram(ctx, g, i, base, xy) {
+    // the diagram on the deformed members, each sign in its colour, extremes written
+    const ne = d.ends.length / 2, nf = d.nf;
+    if (!model.get("force_kind") || d.forces.length !== nf * ne * 2) return;
+    const fmax = model.get("force_max") || 1;
+    const s = (0.12 * g.size * g.scale) / fmax;
+    const fb = i * ne * 2;
+    const pos = new Path2D(), neg = new Path2D();
+    let hi = { v: 0 }, lo = { v: 0 };
+    for (let e = 0; e < ne; e++) {
+      const a = d.ends[2 * e], b = d.ends[2 * e + 1];
+      const x1 = g.X(xy[base + 2 * a]), y1 = g.Y(xy[base + 2 * a + 1]);
+      const x2 = g.X(xy[base + 2 * b]), y2 = g.Y(xy[base + 2 * b + 1]);
+      const l = Math.hypot(x2 - x1, y2 - y1) || 1;
+      const nx = -(y2 - y1) / l, ny = (x2 - x1) / l;
+      const f1 = d.forces[fb + 2 * e], f2 = d.forces[fb + 2 * e + 1];
+      const v1 = s * f1, v2 = s * f2;
+      if (f1 * f2 < 0) {                 // the sign changes along the element: split at zero
+        const t = f1 / (f1 - f2), xm = x1 + t * (x2 - x1), ym = y1 + t * (y2 - y1);
+        const p1 = f1 > 0 ? pos : neg, p2 = f2 > 0 ? pos : neg;
+        p1.moveTo(x1, y1); p1.lineTo(x1 + nx * v1, y1 + ny * v1); p1.lineTo(xm, ym); p1.closePath();
+        p2.moveTo(xm, ym); p2.lineTo(x2 + nx * v2, y2 + ny * v2); p2.lineTo(x2, y2); p2.closePath();
+      } else {
+        const p = f1 + f2 >= 0 ? pos : neg;
+        p.moveTo(x1, y1); p.lineTo(x1 + nx * v1, y1 + ny * v1);
+        p.lineTo(x2 + nx * v2, y2 + ny * v2); p.lineTo(x2, y2); p.closePath();
+      }
+      for (const [f, v, x, y] of [[f1, v1, x1, y1], [f2, v2, x2, y2]]) {
+        if (f > hi.v) hi = { v: f, x: x + nx * v, y: y + ny * v, nx: nx * Math.sign(v), ny: ny * Math.sign(v) };
+        if (f < lo.v) lo = { v: f, x: x + nx * v, y: y + ny * v, nx: nx * Math.sign(v), ny: ny * Math.sign(v) };
+      }
+    }
+    ctx.save();
+    ctx.lineWidth = 1;
+    ctx.fillStyle = COLORS.pos[1]; ctx.strokeStyle = COLORS.pos[0]; ctx.fill(pos); ctx.stroke(pos);
+    ctx.fillStyle = COLORS.neg[1]; ctx.strokeStyle = COLORS.neg[0]; ctx.fill(neg); ctx.stroke(neg);
+    ctx.restore();
+    let prev = null;
+    for (const [m, color] of [[hi, COLORS.pos[0]], [lo, COLORS.neg[0]]]) {
+      if (!m.v) continue;
+      let x = m.x + 8 * (m.nx || 0), y = m.y + 8 * (m.ny || 0);
+      if (prev && Math.hypot(x - prev[0], y - prev[1]) < 14) y += 14;
+      const align = (m.nx || 0) < -0.3 ? "right" : (m.nx || 0) > 0.3 ? "left" : "center";
+      d.extremes.push([fmt(m.v), x, y, color, align]);
+      prev = [x, y];
+    }
+  }
+
+  function forceLegend(ctx, g) {
+    const [name, p, n] = model.get("force_legend") || ["", "", ""];
+    if (!model.get("force_kind") || !name) return;
+    ctx.save();
+    ctx.font = "11px sans-serif"; ctx.textAlign = "left"; ctx.textBaseline = "alphabetic";
+    let x = g.shape[0], y = g.shape[1] - 10;
+    ctx.fillStyle = COLORS.axis; ctx.fillText(`${name}:`, x, y); x += ctx.measureText(`${name}:`).width + 8;
+    for (const [text, c] of [[p, COLORS.pos], [n, COLORS.neg]]) {
+      ctx.fillStyle = c[1]; ctx.fillRect(x, y - 9, 12, 10);
+      ctx.strokeStyle = c[0]; ctx.strokeRect(x, y - 9, 12, 10);
+      ctx.fillStyle = COLORS.axis; ctx.fillText(text, x + 16, y); x += 16 + ctx.measureText(text).width + 12;
+    }
+    ctx.restore();
+  }
+
+  function hoverTip(ctx, g, i, base, xy) {
+    const k = d.hovered;
+    if (k === undefined || k < 0 || k >= d.hover.length) { delete canvas.dataset.hover; return; }
+    const h = d.hover[k], nh = d.hover.length;
+    const x = g.X(xy[base + 2 * h.v]), y = g.Y(xy[base + 2 * h.v + 1]);
+    const u = d.nodeU.length === d.nf * nh * 3 ? d.nodeU.subarray((i * nh + k) * 3, (i * nh + k) * 3 + 3) : null;
+    const lines = [h.label];
+    if (u) for (let c = 0; c < 3; c++) lines.push(`${h.dofs[c]} = ${fmt(u[c])}`);
+    canvas.dataset.hover = lines.join("  ");
+    ctx.save();
+    ctx.strokeStyle = COLORS.hover; ctx.lineWidth = 1.5;
+    ctx.beginPath(); ctx.arc(x, y, 5, 0, 2 * Math.PI); ctx.stroke();
+    ctx.font = "11px sans-serif"; ctx.textBaseline = "top"; ctx.textAlign = "left";
+    const w = Math.max(...lines.map((t) => ctx.measureText(t).width)) + 10, hh = 14 * lines.length + 6;
+    let bx = x + 10, by = y + 10;
+    if (bx + w > g.shape[0] + g.shape[2]) bx = x - 10 - w;
+    if (by + hh > g.shape[1] + g.shape[3]) by = y - 10 - hh;
+    ctx.fillStyle = "rgba(255,255,255,0.92)"; ctx.strokeStyle = "#999"; ctx.lineWidth = 1;
+    ctx.fillRect(bx, by, w, hh); ctx.strokeRect(bx, by, w, hh);
+    ctx.fillStyle = COLORS.hover;
+    lines.forEach((t, j) => { ctx.font = j ? "11px sans-serif" : "bold 11px sans-serif"; ctx.fillText(t, bx + 5, by + 4 + 14 * j); });
+    ctx.restore();
   }
 
   function arrow(ctx, x, y, dx, dy, len) {
@@ -286,33 +408,14 @@ function render({ model, el }) {
     ctx.drawImage(layer, 0, 0);
     ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     const nf = d.nf;
-    if (!nf) { readout.textContent = "(empty path)"; return; }
-    const i = Math.max(0, Math.min(nf - 1, model.get("index")));
+    if (!nf) { setReadout("(empty path)"); return; }
+    const i = Math.max(0, Math.min(nf - 1, shown));
     const base = i * d.nv * 2;
     const xy = d.frames;
     ctx.save();
     ctx.beginPath(); ctx.rect(...g.shape); ctx.clip();
-    // force diagram on the deformed members
-    const fk = model.get("force_kind");
-    const ne = d.ends.length / 2;
-    if (fk && d.forces.length === nf * ne * 2) {
-      const fmax = model.get("force_max") || 1;
-      const s = (0.12 * g.size * g.scale) / fmax;
-      ctx.fillStyle = COLORS[fk][0]; ctx.strokeStyle = COLORS[fk][1]; ctx.lineWidth = 1;
-      const fb = i * ne * 2;
-      ctx.beginPath();
-      for (let e = 0; e < ne; e++) {
-        const a = d.ends[2 * e], b = d.ends[2 * e + 1];
-        const x1 = g.X(xy[base + 2 * a]), y1 = g.Y(xy[base + 2 * a + 1]);
-        const x2 = g.X(xy[base + 2 * b]), y2 = g.Y(xy[base + 2 * b + 1]);
-        const l = Math.hypot(x2 - x1, y2 - y1) || 1;
-        const nx = -(y2 - y1) / l, ny = (x2 - x1) / l;
-        const v1 = s * d.forces[fb + 2 * e], v2 = s * d.forces[fb + 2 * e + 1];
-        ctx.moveTo(x1, y1); ctx.lineTo(x1 + nx * v1, y1 + ny * v1);
-        ctx.lineTo(x2 + nx * v2, y2 + ny * v2); ctx.lineTo(x2, y2); ctx.closePath();
-      }
-      ctx.fill(); ctx.stroke();
-    }
+    d.extremes = [];
+    forceDiagram(ctx, g, i, base, xy);
     ctx.lineWidth = 2.2; ctx.strokeStyle = COLORS.deformed; ctx.lineJoin = "round";
     const st = d.starts;
     for (let k = 0; k + 1 < st.length; k++) {
@@ -332,23 +435,36 @@ function render({ model, el }) {
       if (sg !== 0 && (f.fx || f.fy)) arrow(ctx, x, y, sg * f.fx, -sg * f.fy, 44);
       if (sg !== 0 && f.mz) moment(ctx, x, y, sg * Math.sign(f.mz));
     }
+    for (const [text, x, y, color, align] of d.extremes) label(ctx, text, x, y, color, align);
+    canvas.dataset.extremes = d.extremes.map((e) => e[0]).join(" ");
+    hoverTip(ctx, g, i, base, xy);
     ctx.restore();
+    forceLegend(ctx, g);
     // the marker on the path
     ctx.fillStyle = COLORS.marker; ctx.strokeStyle = "white"; ctx.lineWidth = 1.5;
     ctx.beginPath(); ctx.arc(g.PX(d.cx[i]), g.PY(d.cy[i]), 5.5, 0, 2 * Math.PI); ctx.fill(); ctx.stroke();
-    // readout
-    const parts = [`point ${d.points[i]} of ${d.points[nf - 1]}`];
-    for (let c = 0; c < d.labels.length; c++) {
-      const v = d.table[c * nf + i];
-      parts.push(c === 0 ? `λ = ${fmt(v)}` : `${d.labels[c]} = ${fmt(v)}`);
-    }
-    parts.push(d.stable[i] ? "stable" : "unstable");
-    readout.textContent = parts.join("   ");
+    // readout: the text of each frame comes from the kernel
+    setReadout(d.readouts[i] || "");
     readout.dataset.index = String(i);
     stats.draws += 1;
     stats.drawMs += performance.now() - t0;
     stats.last = performance.now();
     canvas.dataset.draws = String((+canvas.dataset.draws || 0) + 1);
+  }
+
+  function setReadout(text) {
+    // the parts of a readout line ("ux[3] = 0.5") never break inside
+    if (readout.dataset.text === text) return;
+    readout.dataset.text = text;
+    const nodes = [];
+    text.split("   ").forEach((part, k) => {
+      if (k) nodes.push(document.createTextNode("   "));
+      const span = document.createElement("span");
+      span.style.whiteSpace = "nowrap";
+      span.textContent = part;
+      nodes.push(span);
+    });
+    readout.replaceChildren(...nodes);
   }
 
   function schedule() {
@@ -376,12 +492,83 @@ function render({ model, el }) {
       const dd = (g.PX(d.cx[i]) - x) ** 2 + (g.PY(d.cy[i]) - y) ** 2;
       if (dd < bd) { bd = dd; best = i; }
     }
-    if (best >= 0) { model.set("index", best); model.save_changes(); }
+    if (best >= 0) { stopPlay(); sync(best); schedule(); }
   });
 
+  canvas.addEventListener("mousemove", (ev) => {
+    // the node under the pointer, in the frame shown
+    const r = canvas.getBoundingClientRect(), g = d.g;
+    const x = ev.clientX - r.left, y = ev.clientY - r.top;
+    let best = -1, bd = HOVER_PX * HOVER_PX;
+    if (d.nf && x < g.shape[0] + g.shape[2]) {
+      const base = Math.max(0, Math.min(d.nf - 1, shown)) * d.nv * 2;
+      for (let k = 0; k < d.hover.length; k++) {
+        const v = d.hover[k].v;
+        const dd = (g.X(d.frames[base + 2 * v]) - x) ** 2 + (g.Y(d.frames[base + 2 * v + 1]) - y) ** 2;
+        if (dd < bd) { bd = dd; best = k; }
+      }
+    }
+    if (best !== d.hovered) { d.hovered = best; schedule(); }
+  });
+  // where node `n` is drawn in the frame shown, CSS pixels from the canvas corner (tests)
+  canvas.largerotNodePixel = (n) => {
+    const h = d.hover.find((x) => x.node === n), g = d.g;
+    if (!h || !d.nf) return null;
+    const base = Math.max(0, Math.min(d.nf - 1, shown)) * d.nv * 2;
+    return [g.X(d.frames[base + 2 * h.v]), g.Y(d.frames[base + 2 * h.v + 1])];
+  };
+  canvas.addEventListener("mouseleave", () => { if (d.hovered >= 0) { d.hovered = -1; schedule(); } });
+
+  // -- playback ------------------------------------------------------------------
+  let shown = model.get("index");   // the frame drawn
+  let synced = shown;               // the index last sent to the kernel
+  let play = null;                  // {from, start, lastSync} while playing
+
+  function sync(i) {
+    synced = i;
+    if (model.get("index") !== i) { model.set("index", i); model.save_changes(); }
+    shown = i;
+  }
+
+  function tick(now) {
+    if (!play) return;
+    if (play.start === null) { play.start = now; play.lastSync = now; }
+    const nf = d.nf;
+    const rate = (nf - 1) / Math.max(0.05, model.get("play_seconds") || 8);  // frames per second
+    const i = Math.min(nf - 1, Math.floor(play.from + ((now - play.start) / 1000) * rate));
+    if (i !== shown) { shown = i; draw(); }
+    if (i >= nf - 1) { stopPlay(); return; }
+    if (now - play.lastSync >= PLAY_SYNC_MS) { sync(i); play.lastSync = now; }
+    requestAnimationFrame(tick);
+  }
+
+  function startPlay() {
+    if (play || d.nf < 2) { if (d.nf < 2) stopPlay(); return; }
+    let i = Math.max(0, Math.min(d.nf - 1, model.get("index")));
+    if (i >= d.nf - 1) i = 0;                   // at the end: play again from the start
+    shown = i;
+    play = { from: i, start: null, lastSync: 0 };
+    requestAnimationFrame(tick);
+  }
+
+  function stopPlay() {
+    const was = play;
+    play = null;
+    if (was) sync(shown);
+    if (model.get("playing")) { model.set("playing", false); model.save_changes(); }
+  }
+
+  const onPlaying = () => { if (model.get("playing")) startPlay(); else if (play) stopPlay(); };
+  const onStale = () => {
+    const s = model.get("stale");
+    root.style.opacity = s ? "0.35" : "";
+    root.style.filter = s ? "grayscale(1)" : "";
+    root.dataset.stale = s ? "1" : "0";
+  };
+
   const data = ["frames", "ghost", "starts", "kinds", "curve_x", "curve_y", "stable", "points",
-    "table", "table_labels", "bounds", "critical", "symbols", "width", "height", "show_ghost",
-    "x_label", "y_label", "n_frames", "n_vertices", "element_ends"];
+    "readouts", "hover_nodes", "node_u", "bounds", "critical", "symbols", "width", "height",
+    "show_ghost", "x_label", "y_label", "n_frames", "n_vertices", "element_ends", "force_legend"];
   let queued = false;   // one rebuild for a batch of changes arriving together
   const onData = () => {
     if (queued) return;
@@ -389,12 +576,29 @@ function render({ model, el }) {
     queueMicrotask(() => { queued = false; rebuild(); });
   };
   for (const k of data) model.on(`change:${k}`, onData);
-  const onIndex = () => { d.forces = typed(model, "forces", Float32Array); schedule(); };
-  for (const k of ["index", "forces", "force_kind", "force_max"]) model.on(`change:${k}`, onIndex);
+  const onIndex = () => {
+    // a move from elsewhere (slider, kernel): while playing, play on from there
+    const i = model.get("index");
+    if (i === synced) return;
+    synced = i; shown = i;
+    if (play) { play.from = i; play.start = null; }
+    schedule();
+  };
+  const onForces = () => { d.forces = typed(model, "forces", Float32Array); schedule(); };
+  model.on("change:index", onIndex);
+  for (const k of ["forces", "force_kind", "force_max"]) model.on(`change:${k}`, onForces);
+  model.on("change:playing", onPlaying);
+  model.on("change:stale", onStale);
   rebuild();
+  onStale();
+  if (model.get("playing")) startPlay();
   return () => {
+    play = null;
     for (const k of data) model.off(`change:${k}`, onData);
-    for (const k of ["index", "forces", "force_kind", "force_max"]) model.off(`change:${k}`, onIndex);
+    model.off("change:index", onIndex);
+    for (const k of ["forces", "force_kind", "force_max"]) model.off(`change:${k}`, onForces);
+    model.off("change:playing", onPlaying);
+    model.off("change:stale", onStale);
   };
 }
 

@@ -1,7 +1,10 @@
 """The drawing surface of the explorer: a small anywidget that owns one canvas.
 
 Everything drawn is sent once as binary buffers; afterwards only ``index`` changes,
-so scrubbing and playback redraw in the browser with no kernel round trip.
+so scrubbing and playback redraw in the browser with no kernel round trip. Playback
+runs in the browser (``playing``), paced by its animation frames: it shows the frame
+due at each display refresh, skipping frames so a whole path takes ``play_seconds``,
+and hands the index back to the kernel a few times a second.
 """
 from __future__ import annotations
 
@@ -36,12 +39,17 @@ class ShapeCanvas(anywidget.AnyWidget):
     critical = t.List([], help="Critical points: dicts {x, y, kind, index}.").tag(sync=True)
     x_label = t.Unicode("", help="Abscissa of the path plot.").tag(sync=True)
     y_label = t.Unicode("load factor λ", help="Ordinate of the path plot.").tag(sync=True)
-    table = t.Bytes(b"", help="float64, shape (n_columns, n_frames): readout values.").tag(sync=True)
-    table_labels = t.List([], help="Readout column labels (the first is λ).").tag(sync=True)
+    readouts = t.List([], help="The readout text of each frame.").tag(sync=True)
+    hover_nodes = t.List([], help="Nodes the pointer can hover: dicts {v, node, label, dofs}.").tag(sync=True)
+    node_u = t.Bytes(b"", help="float32, shape (n_frames, n_hover, 3): hover nodes' displacements.").tag(sync=True)
     symbols = t.Dict({}, help="Supports and loads, see largerot.widgets.data.symbols.").tag(sync=True)
     forces = t.Bytes(b"", help="float32, shape (n_frames, n_elements, 2): force diagram values.").tag(sync=True)
     force_kind = t.Unicode("", help="'' (no diagram), 'N', 'V' or 'M'.").tag(sync=True)
     force_max = t.Float(1.0, help="Largest |value| of the diagram along the path (its scale).").tag(sync=True)
+    force_legend = t.List(["", "", ""], help="[diagram name, positive, negative] for the legend.").tag(sync=True)
+    playing = t.Bool(False, help="True while the browser plays the path (it stops at the end).").tag(sync=True)
+    play_seconds = t.Float(8.0, help="Seconds a whole play takes (frames are skipped to keep it).").tag(sync=True)
+    stale = t.Bool(False, help="Grey the drawing out: it shows an old result.").tag(sync=True)
     show_ghost = t.Bool(True, help="Draw the undeformed shape dashed.").tag(sync=True)
     width = t.Int(900, help="Canvas width in CSS pixels.").tag(sync=True)
     height = t.Int(400, help="Canvas height in CSS pixels.").tag(sync=True)

@@ -21,8 +21,9 @@ from ..plotting import obstacle_outlines
 from ..results import EquilibriumPath, member_lines
 
 __all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options",
-           "readout", "readout_table", "member_force_table", "FORCE_NAMES", "symbols",
-           "bounds"]
+           "readout", "readout_table", "readout_lines", "readout_line", "format_value",
+           "dof_label", "dof_key", "member_force_table", "FORCE_NAMES", "FORCE_SIGNS",
+           "symbols", "bounds", "hover_nodes", "node_displacements", "play_seconds"]
 
 log = logging.getLogger(__name__)
 
@@ -37,6 +38,15 @@ MAX_FRAMES = 2000
 MAX_SUB, MIN_SUB = 9, 2
 #: Force diagram quantities, by the names the path's member results use.
 FORCE_NAMES = {"N": "axial force N", "V": "shear force V", "M": "bending moment M"}
+#: Legend words of a diagram's two signs (positive, negative): the two colours.
+FORCE_SIGNS = {"N": ("tension", "compression"), "V": ("V > 0", "V < 0"), "M": ("M > 0", "M < 0")}
+#: Significant digits of the numbers in readouts and on diagrams: enough to read a
+#: value off, few enough to read at a glance (common practice, no source).
+DIGITS = 4
+#: Playback: a whole path plays in at most this many seconds (longer paths skip frames),
+#: at most POINTS_PER_SECOND points a second (short paths are not rushed), and at least
+#: MIN_PLAY_SECONDS.
+PLAY_SECONDS, POINTS_PER_SECOND, MIN_PLAY_SECONDS = 8.0, 40.0, 1.0
 
 
 class Layout:
@@ -105,10 +115,12 @@ class Layout:
 
 
 def layout(structure: Structure, n_frames: int, n_sub: int | None = None) -> Layout:
-    """A layout whose frames fit :data:`FRAME_BUDGET` (fewer curve points if needed)."""
+    """A layout whose frames (and the hover displacements, 3 numbers per node and
+    frame) fit :data:`FRAME_BUDGET` (fewer curve points if needed)."""
     if n_sub is None:
         n_el = max(1, len(structure.element_table("beam")[0]))
-        n_sub = FRAME_BUDGET // max(1, 2 * n_frames * n_el)
+        budget = max(0, FRAME_BUDGET - 3 * n_frames * structure.n_nodes)
+        n_sub = budget // max(1, 2 * n_frames * n_el)
         n_sub = int(min(MAX_SUB, max(MIN_SUB, n_sub)))
     return Layout(structure, n_sub)
 
@@ -161,7 +173,7 @@ def curve_options(structure: Structure, max_nodes: int = 40) -> list:
     ends = sorted({n for m in structure.members for n in m.ends})
     rest = range(structure.n_nodes)
     nodes = list(dict.fromkeys([*loaded, *ends, *rest]))[:max_nodes]
-    return [(f"{d} of node {n}", (n, d)) for n in nodes for d in DOFS]
+    return [(dof_label(structure, n, d), (n, d)) for n in nodes for d in DOFS]
 
 
 def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None = None) -> dict:
@@ -184,7 +196,7 @@ def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None 
         crit.append({"x": x, "y": float(cp.load_factor), "kind": str(cp.kind), "index": int(cp.index)})
     return {"x": x_all[points].astype(np.float32), "y": path.load_factor[points].astype(np.float32),
             "stable": path.stable[points].astype(np.uint8), "critical": crit,
-            "x_label": f"{dof} of node {node}", "y_label": "load factor λ"}
+            "x_label": dof_label(path.structure, node, dof), "y_label": "load factor λ"}
 
 
 # -- member forces, only as the path provides them -------------------------------------
@@ -247,24 +259,67 @@ def member_force_table(path: EquilibriumPath, points: np.ndarray, name: str) -> 
     return out if any_found else None
 
 
+# -- text: every label and number the widgets write goes through these ------------------
+def dof_label(structure: Structure, node: int, dof: str) -> str:
+    """Long label of a node's displacement (axes, menus): ``"ux of node 3"``."""
+    return f"{dof} of node {int(node)}"
+
+
+def dof_key(structure: Structure, node: int, dof: str) -> str:
+    """Short label of a node's displacement (readout columns): ``"ux[3]"``."""
+    return f"{dof}[{int(node)}]"
+
+
+def node_label(structure: Structure, node: int) -> str:
+    """How a node is named in the hover readout: ``"node 3"``."""
+    return f"node {int(node)}"
+
+
+def format_value(v: float, digits: int = DIGITS) -> str:
+    """A number with ``digits`` significant digits, powers of ten as ``e5``.
+
+    Between 10⁻³ and 10⁴ plain decimals (trailing zeros dropped), else mantissa and
+    exponent. The browser's ``fmt`` in canvas.js follows the same rule.
+
+    >>> [format_value(v) for v in (23760.4, 3347.2, 0.069731, 1.525e5, -2e-5, 0.0)]
+    ['2.376e4', '3347', '0.06973', '1.525e5', '-2e-5', '0']
+    """
+    v = float(v)
+    if not np.isfinite(v):
+        return "—"
+    if v == 0:
+        return "0"
+    if 1e-3 <= abs(v) < 1e4:
+        text = f"{v:.{digits}g}"
+        if "e" not in text:
+            return text
+    mant, exp = f"{v:.{digits - 1}e}".split("e")
+    mant = mant.rstrip("0").rstrip(".")
+    return f"{mant}e{int(exp)}"
+
+
 # -- readout ---------------------------------------------------------------------------
 def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = None) -> dict:
     """Columns shown under the widget, each shape (n_frames,): label -> values.
 
     Load factor, the chosen node's three DOFs and, when the path has member forces,
-    max |M| and max N over all elements.
+    max |M|, min N (the largest compression) and max N (the largest tension) over all
+    elements.
     """
     if points is None:
         points = np.arange(len(path))
+    s = path.structure
     cols = {"λ": path.load_factor[points]}
     for d in DOFS:
-        cols[f"{d}[{node}]"] = path.displacement(node, d)[points]
+        cols[dof_key(s, node, d)] = path.displacement(node, d)[points]
     M = member_force_table(path, points, "M")
     N = member_force_table(path, points, "N")
+    zeros = np.zeros(len(points))
     if M is not None:
-        cols["max |M|"] = np.abs(M).max(axis=(1, 2)) if M.shape[1] else np.zeros(len(points))
+        cols["max |M|"] = np.abs(M).max(axis=(1, 2)) if M.shape[1] else zeros
     if N is not None:
-        cols["max N"] = N.max(axis=(1, 2)) if N.shape[1] else np.zeros(len(points))
+        cols["min N"] = N.min(axis=(1, 2)) if N.shape[1] else zeros
+        cols["max N"] = N.max(axis=(1, 2)) if N.shape[1] else zeros
     return {k: np.asarray(v, dtype=float) for k, v in cols.items()}
 
 
@@ -272,6 +327,51 @@ def readout(path: EquilibriumPath, i: int, node: int) -> dict:
     """The readout at point ``i`` as ``label -> float`` (what the browser shows)."""
     t = readout_table(path, node, np.array([range(len(path))[i]]))
     return {k: float(v[0]) for k, v in t.items()}
+
+
+def readout_line(values: dict, point: int, last: int, stable: bool) -> str:
+    """One point's readout as the browser shows it.
+
+    >>> readout_line({"λ": 0.5, "max N": 23760.4}, 3, 10, True)
+    'point 3 of 10   λ = 0.5   max N = 2.376e4   stable'
+    """
+    parts = [f"point {int(point)} of {int(last)}"]
+    parts += [f"{k} = {format_value(v)}" for k, v in values.items()]
+    parts.append("stable" if stable else "unstable")
+    return "   ".join(parts)
+
+
+def readout_lines(path: EquilibriumPath, node: int, points: np.ndarray) -> list:
+    """The readout text of every frame (sent once; the browser picks the line)."""
+    table = readout_table(path, node, points)
+    last = int(points[-1]) if len(points) else 0
+    stable = path.stable[points]
+    return [readout_line({k: v[j] for k, v in table.items()}, int(p), last, bool(stable[j]))
+            for j, p in enumerate(points)]
+
+
+# -- hover -----------------------------------------------------------------------------
+def hover_nodes(structure: Structure, lay: Layout) -> list:
+    """Nodes the pointer can hover: ``{v, node, label, dofs}`` (``v`` the vertex drawn
+    at the node, ``dofs`` the three displacement labels), in node order."""
+    return [{"v": int(lay.node_vertex[n]), "node": int(n), "label": node_label(structure, n),
+             "dofs": list(DOFS)} for n in sorted(lay.node_vertex)]
+
+
+def node_displacements(path: EquilibriumPath, points: np.ndarray, nodes: list) -> np.ndarray:
+    """Displacements of the hover nodes, float32, shape (n_frames, n_hover, 3)."""
+    idx = np.array([h["node"] for h in nodes], dtype=int)
+    u = np.asarray(path.u)[np.asarray(points, dtype=int)].reshape(len(points), -1, 3)
+    return u[:, idx].astype(np.float32)
+
+
+def play_seconds(n_frames: int, longest: float = PLAY_SECONDS) -> float:
+    """Seconds a whole path of ``n_frames`` takes to play (skipping frames when needed).
+
+    >>> play_seconds(1000), play_seconds(120), play_seconds(5)
+    (8.0, 3.0, 1.0)
+    """
+    return float(min(longest, max(MIN_PLAY_SECONDS, n_frames / POINTS_PER_SECOND)))
 
 
 # -- supports and loads ----------------------------------------------------------------

@@ -12,6 +12,7 @@
 from __future__ import annotations
 
 import logging
+import warnings
 
 import ipywidgets as w
 import numpy as np
@@ -21,16 +22,13 @@ from ..model import DOFS
 from ..plotting import default_curve
 from ..results import EquilibriumPath, member_lines
 from . import data
-from ._errors import shown_in_widget
+from ._errors import ErrorBox, shown_in_widget
 from .canvas import ShapeCanvas
 
 __all__ = ["Explorer", "explore"]
 
 log = logging.getLogger(__name__)
 
-#: Milliseconds between frames of the play control (the browser draws at most once per
-#: animation frame, so a short interval plays as fast as the display allows).
-PLAY_INTERVAL = 30
 
 
 class Explorer(w.VBox):
@@ -49,6 +47,12 @@ class Explorer(w.VBox):
         Longer paths are subsampled evenly to this many frames.
     width, height : int
         Canvas size in pixels.
+    play_seconds : float, optional
+        Longest time a whole path takes to play (default
+        :func:`largerot.widgets.data.play_seconds`: at most 8 s, frames skipped as
+        needed). The browser draws once per display refresh.
+    interval : int, optional
+        Deprecated and ignored: playback is paced by the browser's animation frames.
     """
 
     path = t.Instance(EquilibriumPath, allow_none=True, help="The path explored.")
@@ -62,17 +66,29 @@ class Explorer(w.VBox):
     def __init__(self, path: EquilibriumPath | None = None, node: int | None = None,
                  dof: str | None = None, *, scale: float = 1.0, forces: str = "",
                  max_frames: int = data.MAX_FRAMES, width: int = 900, height: int = 400,
-                 interval: int = PLAY_INTERVAL, **kwargs) -> None:
+                 play_seconds: float | None = None, interval: int | None = None,
+                 **kwargs) -> None:
         if forces not in ("", *data.FORCE_NAMES):
             raise ValueError(f"`forces` must be '', 'N', 'V' or 'M', got {forces!r}.")
         if int(max_frames) < 2:
             raise ValueError(f"`max_frames` must be at least 2, got {max_frames!r}.")
+        if interval is not None:
+            warnings.warn("`interval` is ignored: playback is paced by the browser's animation "
+                          "frames; use `play_seconds` for the length of a play.",
+                          DeprecationWarning, stacklevel=3)
+        if play_seconds is not None and not play_seconds > 0:
+            raise ValueError(f"`play_seconds` must be positive, got {play_seconds!r}.")
+        self._play_seconds = None if play_seconds is None else float(play_seconds)
         self.canvas = ShapeCanvas(width=int(width), height=int(height))
-        self.play = w.Play(min=0, max=0, step=1, interval=int(interval), description="play")
+        self.play = w.ToggleButton(value=False, description="play", icon="play",
+                                   tooltip="play the path (the browser skips frames so a "
+                                           "whole path takes a few seconds)",
+                                   layout=w.Layout(width="90px"))
         self.slider = w.IntSlider(min=0, max=0, description="point", continuous_update=True,
                                   layout=w.Layout(width="420px"))
-        w.jslink((self.play, "value"), (self.slider, "value"))
+        w.jslink((self.play, "value"), (self.canvas, "playing"))
         w.jslink((self.slider, "value"), (self.canvas, "index"))
+        self.canvas.observe(self._playing_changed, "playing")
         self.menu = w.Dropdown(description="path of", options=[("ux of node 0", (0, "ux"))],
                                layout=w.Layout(width="220px"))
         self.force_buttons = w.ToggleButtons(
@@ -85,7 +101,7 @@ class Explorer(w.VBox):
         self.scale_box = w.BoundedFloatText(value=scale, min=1e-6, max=1e6, description="scale ×",
                                             layout=w.Layout(width="150px"))
         self.note = w.HTML("")
-        self.errors = w.Output(layout=w.Layout(display="none", border="1px solid #c0392b"))
+        self.errors = ErrorBox()
         self._points = np.zeros(0, dtype=int)
         self._layout = None
         # frames and force tables already computed, by path point: reused while a
@@ -165,6 +181,16 @@ class Explorer(w.VBox):
             self.play.max = self.slider.max = max(0, n - 1)
             i = n - 1 if index == "last" else (old if index is None else int(index))
             self.index = min(max(i, 0), max(0, n - 1))
+            self.canvas.play_seconds = self._play_seconds or data.play_seconds(n)
+
+    @property
+    def stale(self) -> bool:
+        """True when the drawing is greyed out as an old result."""
+        return self.canvas.stale
+
+    @stale.setter
+    def stale(self, value: bool) -> None:
+        self.canvas.stale = bool(value)
 
     def extend(self, path: EquilibriumPath, index: int | str | None = "last") -> None:
         """Show a grown version of the path shown (a live trace): points already drawn
@@ -198,18 +224,19 @@ class Explorer(w.VBox):
         c.points = pts.astype(np.int32).tobytes()
         c.bounds = data.bounds(fr, ghost)
         c.symbols = data.symbols(path.structure, lay)
+        hover = data.hover_nodes(path.structure, lay)
+        c.node_u = data.node_displacements(path, pts, hover).tobytes()
+        c.hover_nodes = hover
 
     def _send_curve(self) -> None:
         node, dof = self.curve_of
         cv = data.curve(self.path, node, dof, self._points)
-        table = data.readout_table(self.path, node, self._points)
         c = self.canvas
         c.curve_x, c.curve_y = cv["x"].tobytes(), cv["y"].tobytes()
         c.stable = cv["stable"].tobytes()
         c.critical = cv["critical"]
         c.x_label, c.y_label = cv["x_label"], cv["y_label"]
-        c.table_labels = list(table)
-        c.table = np.array(list(table.values()), dtype=np.float64).reshape(len(table), -1).tobytes()
+        c.readouts = data.readout_lines(self.path, node, self._points)
 
     def _send_forces(self) -> None:
         c = self.canvas
@@ -234,11 +261,17 @@ class Explorer(w.VBox):
             return
         c.forces = values.astype(np.float32).tobytes()
         c.force_max = float(np.abs(values).max()) or 1.0
+        c.force_legend = [data.FORCE_NAMES[name], *data.FORCE_SIGNS[name]]
         c.force_kind = name
-        self.note.value = (f"{data.FORCE_NAMES[name]} diagram; largest |{name}| along the path "
-                           f"{c.force_max:.4g}")
+        sign = " (tension positive)" if name == "N" else ""
+        self.note.value = (f"{data.FORCE_NAMES[name]} diagram, extremes written on it; along the "
+                           f"path {name} goes from {data.format_value(values.min())} to "
+                           f"{data.format_value(values.max())}{sign}")
 
     # -- reactions --------------------------------------------------------------------
+    def _playing_changed(self, change) -> None:
+        self.play.description, self.play.icon = ("pause", "pause") if change["new"] else ("play", "play")
+
     @t.observe("curve_of")
     @shown_in_widget
     def _curve_changed(self, change) -> None:
@@ -269,6 +302,6 @@ def explore(path: EquilibriumPath, node: int | None = None, dof: str | None = No
     """Explore a traced path: shape and load–displacement curve, slider, play, readout.
 
     ``node``/``dof`` choose the curve's abscissa; ``options`` go to :class:`Explorer`
-    (``scale``, ``forces``, ``max_frames``, ``width``, ``height``, ``interval``).
+    (``scale``, ``forces``, ``max_frames``, ``width``, ``height``, ``play_seconds``).
     """
     return Explorer(path, node, dof, **options)

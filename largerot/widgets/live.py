@@ -20,10 +20,12 @@ import traitlets as t
 
 from ..model import DOFS
 from ..solvers import iterate
-from ._errors import shown_in_widget, show_error
+from . import data
+from ._errors import ErrorBox, shown_in_widget, show_error
 from .explorer import Explorer
 
-__all__ = ["Live", "live", "TARGETS"]
+__all__ = ["Live", "live", "TARGETS", "STATES", "BUTTONS", "ENABLED", "TRANSITIONS",
+           "enabled_buttons", "outcome"]
 
 log = logging.getLogger(__name__)
 
@@ -36,6 +38,52 @@ MAX_MESSAGES = 200
 LIVE_FRAMES = 400
 #: What "run" runs to.
 TARGETS = ("load factor", "displacement", "points")
+
+# -- the panel's states: a table, testable without a browser ------------------------------
+#: idle: nothing traced yet; tracing: a run goes on; paused: stopped part way (step or
+#: run go on); finished: the trace ended well (a word of lr.STATUS other than failed);
+#: failed: the solver failed or an error was raised.
+STATES = ("idle", "tracing", "paused", "finished", "failed")
+#: The buttons. "previous" shows the point before the one shown (the trace is unchanged).
+BUTTONS = ("step", "run", "pause", "previous", "reset")
+#: Buttons that can act in each state ("previous" also needs a point before the one shown).
+ENABLED = {
+    "idle": ("step", "run"),
+    "tracing": ("pause",),
+    "paused": ("step", "run", "previous", "reset"),
+    "finished": ("previous", "reset"),
+    "failed": ("previous", "reset"),
+}
+#: (state, button) -> state right after the press; a step's or a run's end then moves a
+#: paused or tracing panel on by :func:`outcome`. Buttons that cannot act leave the state.
+TRANSITIONS = {
+    (state, button): {("idle", "step"): "paused", ("idle", "run"): "tracing",
+                      ("tracing", "pause"): "paused", ("paused", "step"): "paused",
+                      ("paused", "run"): "tracing", ("paused", "reset"): "idle",
+                      ("finished", "reset"): "idle", ("failed", "reset"): "idle",
+                      }.get((state, button), state)
+    for state in STATES for button in BUTTONS
+}
+
+
+def enabled_buttons(state: str, at_first_point: bool = False) -> tuple:
+    """Buttons that can act in ``state`` (``previous`` not at the first point).
+
+    >>> enabled_buttons("finished"), enabled_buttons("paused", at_first_point=True)
+    (('previous', 'reset'), ('step', 'run', 'reset'))
+    """
+    return tuple(b for b in ENABLED[state] if not (b == "previous" and at_first_point))
+
+
+def outcome(stepper_status: str, error: bool = False) -> str:
+    """The panel's state once a step or a run stops, from the stepper's status word.
+
+    >>> outcome("running"), outcome("target"), outcome("failed"), outcome("running", error=True)
+    ('paused', 'finished', 'failed', 'failed')
+    """
+    if error or stepper_status == "failed":
+        return "failed"
+    return "paused" if stepper_status == "running" else "finished"
 
 
 def reached(kind: str, target: float, lam: float, u: float, n_points: int) -> bool:
@@ -60,7 +108,11 @@ def progress(kind: str, target: float, lam: float, u: float, n_points: int) -> f
 
 
 class Live(w.VBox):
-    """Buttons to step, run, pause, step back (view only) and reset a trace.
+    """Buttons to step, run, pause, show the previous point and reset a trace.
+
+    The panel is in one of :data:`STATES` (``state``), shown as such; a button is
+    enabled only where it can act (:data:`ENABLED`), and pressing one follows
+    :data:`TRANSITIONS`. Errors show as one line with the traceback behind "details".
 
     Parameters
     ----------
@@ -79,7 +131,8 @@ class Live(w.VBox):
         Passed to ``control.stepper`` (``tol``, ``max_iterations``...).
     """
 
-    status = t.Unicode("running", help="The trace's status, a word of lr.STATUS ('running' until it ends).")
+    state = t.Enum(STATES, default_value="idle", help="The panel's state, one of STATES.")
+    status = t.Unicode("running", help="The stepper's status, a word of lr.STATUS ('running' until it ends).")
     busy = t.Bool(False, help="True while a run goes on in the background thread.")
     target_kind = t.Enum(TARGETS, default_value="load factor", help="What a run runs to.")
     target = t.Float(1.0, help="Value of the run's target.")
@@ -104,35 +157,42 @@ class Live(w.VBox):
         self._thread = None
         self.path = None
         self.view = Explorer(max_frames=LIVE_FRAMES)
-        b = dict(layout=w.Layout(width="88px"))
-        self.step_button = w.Button(description="step", icon="step-forward", **b)
-        self.run_button = w.Button(description="run", icon="play", button_style="success", **b)
-        self.pause_button = w.Button(description="pause", icon="pause", disabled=True, **b)
-        self.back_button = w.Button(description="back", icon="step-backward",
-                                    tooltip="show the previous point (view only)", **b)
-        self.reset_button = w.Button(description="reset", icon="undo", button_style="warning", **b)
+        b = dict(layout=w.Layout(width="96px"))
+        self.buttons = {
+            "step": w.Button(description="step", icon="step-forward",
+                             tooltip="take one step of the trace", **b),
+            "run": w.Button(description="run", icon="play", button_style="success",
+                            tooltip="trace on to the target", **b),
+            "pause": w.Button(description="pause", icon="pause",
+                              tooltip="stop the run after its current step", **b),
+            "previous": w.Button(description="previous", icon="chevron-left",
+                                 tooltip="show the point before the one shown (the trace is unchanged)", **b),
+            "reset": w.Button(description="reset", icon="undo", button_style="warning",
+                              tooltip="throw the trace away and start again", **b),
+        }
+        self.step_button, self.run_button = self.buttons["step"], self.buttons["run"]
+        self.pause_button, self.reset_button = self.buttons["pause"], self.buttons["reset"]
+        self.previous_button = self.back_button = self.buttons["previous"]
         self.step_box = w.FloatText(description="step", layout=w.Layout(width="160px"))
         self.kind_menu = w.Dropdown(options=TARGETS, description="run to", layout=w.Layout(width="220px"))
         self.target_box = w.FloatText(layout=w.Layout(width="100px"))
         self.bar = w.FloatProgress(min=0.0, max=1.0, description="progress", layout=w.Layout(width="320px"))
         self.state_label = w.HTML("")
+        self.state_label.add_class("largerot-state")
         self.log_view = w.HTML("", layout=w.Layout(max_height="120px", overflow="auto",
                                                    border="1px solid #ddd"))
-        self.errors = w.Output(layout=w.Layout(display="none", border="1px solid #c0392b"))
+        self.errors = ErrorBox()
         super().__init__(children=[
-            w.HBox([self.step_button, self.run_button, self.pause_button, self.back_button,
-                    self.reset_button]),
+            w.HBox(list(self.buttons.values())),
             w.HBox([self.step_box, self.kind_menu, self.target_box]),
             w.HBox([self.bar, self.state_label]),
-            self.view, self.log_view, self.errors])
+            self.errors, self.view, self.log_view])
         t.link((self.kind_menu, "value"), (self, "target_kind"))
         t.link((self.target_box, "value"), (self, "target"))
         t.link((self.step_box, "value"), (self, "step_size"))
-        self.step_button.on_click(lambda _: self.step())
-        self.run_button.on_click(lambda _: self.run())
-        self.pause_button.on_click(lambda _: self.pause())
-        self.back_button.on_click(lambda _: self.back())
-        self.reset_button.on_click(lambda _: self.reset())
+        for name, button in self.buttons.items():
+            button.on_click(lambda _, name=name: self.press(name))
+        self.view.slider.observe(lambda _: self._show_state(), "value")
         self._target_load_factor = target_load_factor
         self._curve = (node, dof)
         self.target_kind = target_kind
@@ -141,6 +201,21 @@ class Live(w.VBox):
                 else (50 if target_kind == "points" else 1.0)
         self.target = float(target)
         self._reset()
+
+    # -- the buttons ---------------------------------------------------------------
+    def enabled(self) -> tuple:
+        """Buttons that can act now."""
+        return enabled_buttons(self.state, at_first_point=self.view.index == 0)
+
+    def press(self, button: str) -> None:
+        """Press a button: it acts if it can (:meth:`enabled`), else nothing happens."""
+        if button not in BUTTONS:
+            raise ValueError(f"`button` must be one of {', '.join(BUTTONS)}, got {button!r}.")
+        if button not in self.enabled():
+            log.info("%s does nothing while the panel is %s.", button, self.state)
+            return
+        {"step": self.step, "run": self.run, "pause": self.pause,
+         "previous": self.previous, "reset": self.reset}[button]()
 
     # -- actions -------------------------------------------------------------------
     @shown_in_widget
@@ -151,36 +226,44 @@ class Live(w.VBox):
     def _reset(self) -> None:
         self.pause()
         with self._lock:
+            self.errors.clear()
+            self.error = ""
             lam_target = self.target if self.target_kind == "load factor" else self._target_load_factor
             self.stepper = self.control.stepper(self.structure, target_load_factor=lam_target,
                                                 **self.stepper_options)
             self.step_size = abs(float(self.stepper.h))
             self.messages = ["Started at the unloaded state."]
             self._checked = 0
+            self.state = "idle"
             self._refresh()
 
-    @shown_in_widget
     def step(self) -> str | None:
-        """Take one step (not while running); return the solver's message."""
-        if self._running():
-            raise RuntimeError("A run is in progress; pause it before stepping by hand.")
+        """Take one step (when the panel can); return the solver's message."""
+        if "step" not in ENABLED[self.state]:
+            self._say(self._cannot("step"))
+            self._show_state()
+            return None
+        msg, failed = None, False
         with self._lock:
-            msg = self._step_once()
+            try:
+                msg = self._step_once()
+            except Exception as exc:  # shown in the widget as one line, the panel fails
+                show_error(self, exc)
+                failed = True
+            self.state = outcome(self.stepper.status, error=failed)
             self._refresh()
         return msg
 
-    @shown_in_widget
     def run(self, block: bool = False) -> None:
         """Run to the target in a background thread (``block=True`` waits for the end)."""
-        if self._running():
-            return
-        if not self.stepper.running:
-            self._say(f"The trace has ended ({self.stepper.status}: {self.stepper.message}); "
-                      "press reset to trace again.")
-            self._refresh()
+        if "run" not in ENABLED[self.state]:
+            if self.state != "tracing":
+                self._say(self._cannot("run"))
+                self._show_state()
             return
         self._stop.clear()
-        self._set_running(True)
+        self.state = "tracing"
+        self.busy = True
         self._thread = threading.Thread(target=self._run_loop, name="largerot-live", daemon=True)
         self._thread.start()
         if block:
@@ -197,23 +280,19 @@ class Live(w.VBox):
         if th is not None and th is not threading.current_thread():
             th.join(timeout)
 
-    @shown_in_widget
-    def back(self) -> None:
-        """Show the previous point (the trace itself is unchanged)."""
+    def previous(self) -> None:
+        """Show the point before the one shown (the trace itself is unchanged)."""
         self.view.index = max(0, self.view.index - 1)
 
-    # -- internals ---------------------------------------------------------------------
-    def _running(self) -> bool:
-        return self._thread is not None and self._thread.is_alive()
+    #: The old name of :meth:`previous`.
+    back = previous
 
-    def _set_running(self, running: bool) -> None:
-        self.busy = running
-        self.status = self.stepper.status
-        self.pause_button.disabled = not running
-        ended = not self.stepper.running
-        for b in (self.step_button, self.run_button):
-            b.disabled = running or ended
-        self.reset_button.disabled = running
+    # -- internals ---------------------------------------------------------------------
+    def _cannot(self, button: str) -> str:
+        if self.state in ("finished", "failed"):
+            return (f"The trace has {self.state} ({self.stepper.status}: {self.stepper.message}); "
+                    f"press reset to trace again.")
+        return f"{button} does nothing while the panel is {self.state}."
 
     def _now(self):
         """(λ, chosen displacement, points) of the last converged point."""
@@ -238,9 +317,10 @@ class Live(w.VBox):
     def _run_loop(self) -> None:
         last = 0.0
         st = self.stepper
+        failed = False
         try:
             for point in iterate(st):
-                self._say(f"Point {point.index}: λ = {point.load_factor:.6g}, "
+                self._say(f"Point {point.index}: λ = {data.format_value(point.load_factor)}, "
                           f"{point.iterations} iterations.")
                 lam, u, n = self._now()
                 if reached(self.target_kind, self.target, lam, u, n):
@@ -256,14 +336,35 @@ class Live(w.VBox):
                 self._say(f"Trace {st.status}: {st.message}")
         except Exception as exc:  # shown in the widget, the thread must not die silently
             show_error(self, exc)
+            failed = True
         finally:
             with self._lock:
+                self.busy = False
+                self.state = outcome(st.status, error=failed)
                 self._refresh()
-            self._set_running(False)
 
     def _say(self, msg: str) -> None:
         log.info("%s", msg)
         self.messages = (self.messages + [msg])[-MAX_MESSAGES:]
+
+    def _show_state(self) -> None:
+        """Buttons enabled where they can act; the state in words; the log."""
+        on = self.enabled()
+        with self.hold_sync():
+            for name, button in self.buttons.items():
+                button.disabled = name not in on
+            st = self.stepper
+            lam, u, n = self._now()
+            words = {"idle": "idle", "tracing": "tracing…", "paused": "paused",
+                     "finished": "finished", "failed": "failed"}[self.state]
+            colour = {"failed": "#b03a2e", "finished": "#1e6b34", "tracing": "#1f5fa8"}.get(self.state, "#333")
+            end = f" — {html.escape(st.status)}: {html.escape(st.message)}" if not st.running else ""
+            self.state_label.value = (
+                f"&nbsp;<b style='color:{colour}' data-state='{self.state}'>{words}</b>{end} · "
+                f"{n} point{'s' if n != 1 else ''}, λ = {data.format_value(lam)}, "
+                f"step {data.format_value(st.h)}")
+            self.log_view.value = "<pre style='margin:2px'>" + html.escape(
+                "\n".join(reversed(self.messages[-12:]))) + "</pre>"
 
     def _refresh(self) -> None:
         """Send the path so far to the view (the last point shown) and the counters."""
@@ -283,10 +384,7 @@ class Live(w.VBox):
             lam, u, n = self._now()
             self.bar.value = progress(self.target_kind, self.target, lam, u, n)
             self.status = self.stepper.status
-            self.state_label.value = (f"&nbsp;{n} points, λ = {lam:.4g}, step {self.stepper.h:.3g}, "
-                                      f"<b>{'running' if self.busy else self.stepper.status}</b>")
-            self.log_view.value = "<pre style='margin:2px'>" + html.escape(
-                "\n".join(reversed(self.messages[-12:]))) + "</pre>"
+            self._show_state()
 
     @t.observe("step_size")
     @shown_in_widget
@@ -315,15 +413,20 @@ class Live(w.VBox):
         elif st.running:
             st.set_target(self._target_load_factor)
 
+    @t.observe("state")
+    def _state_changed(self, change) -> None:
+        if getattr(self, "stepper", None) is not None:
+            self._show_state()
+
 
 def live(structure, control, **options) -> Live:
-    """Step a trace live: step / run to a target / pause / back / reset, with messages.
+    """Step a trace live: step / run to a target / pause / previous point / reset.
 
     >>> import largerot as lr
     >>> from largerot.demo import lighting_pole
     >>> s, base, top = lighting_pole(segments=4)
     >>> lv = lr.widgets.live(s, lr.by_load(0.25), node=top, dof="ux")
-    >>> lv.run(block=True); lv.n_points, lv.status
-    (5, 'target')
+    >>> lv.run(block=True); lv.n_points, lv.status, lv.state
+    (5, 'target', 'finished')
     """
     return Live(structure, control, **options)

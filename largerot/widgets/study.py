@@ -5,6 +5,7 @@ library's :func:`~largerot.trace`) or an already traced EquilibriumPath.
 """
 from __future__ import annotations
 
+import html
 import inspect
 import logging
 import threading
@@ -17,18 +18,64 @@ import traitlets as t
 from ..model import Structure
 from ..results import EquilibriumPath
 from ..solvers import by_load, trace
-from ._errors import shown_in_widget
+from . import data
+from ._errors import ErrorBox, shown_in_widget, show_error
 from .explorer import Explorer
 
-__all__ = ["Study", "study", "parameter_widget"]
+__all__ = ["Study", "study", "parameter_widget", "round_step"]
 
 log = logging.getLogger(__name__)
 
 #: Seconds of quiet after the last slider move before rebuilding (a drag of a slider
 #: sends many values; only the last one is traced).
 DEBOUNCE = 0.4
-#: Slider positions between the ends of a (low, high) range.
+#: About this many slider positions between the ends of a (low, high) range.
 SLIDER_STEPS = 100
+#: Round steps: 1, 2, 2.5 and 5 times a power of ten (common practice for scales and
+#: slider steps, no source).
+ROUND_STEPS = (1.0, 2.0, 2.5, 5.0)
+#: Finer round steps tried (down to range / (SLIDER_STEPS * FINEST)) so that the start
+#: value lies on the slider's grid.
+FINEST = 100
+
+
+def _round_steps(low: float, high: float):
+    """Round steps no longer than (high - low) / SLIDER_STEPS, coarsest first."""
+    raw = (high - low) / SLIDER_STEPS
+    k = int(np.floor(np.log10(raw))) + 1
+    for _ in range(64):                      # bounded: 64 candidates span 16 decades
+        for m in reversed(ROUND_STEPS):
+            step = m * 10.0 ** k
+            if step <= raw * (1 + 1e-9):
+                if step < raw / FINEST:
+                    return
+                yield step
+        k -= 1
+
+
+def _on_grid(value: float, low: float, step: float) -> bool:
+    q = (value - low) / step
+    return abs(q - round(q)) <= 1e-6
+
+
+def round_step(low: float, high: float, value: float | None = None) -> float:
+    """A slider step for the range: a round number (1, 2, 2.5 or 5 × 10^k) of about a
+    hundredth of it, fine enough that ``low`` + k·step lands on ``value`` when possible.
+
+    >>> round_step(0.0, 1.0), round_step(0.01, 0.3, 0.07), round_step(0.0, 0.7)
+    (0.01, 0.0025, 0.005)
+    """
+    steps = list(_round_steps(low, high))
+    if not steps:
+        return (high - low) / SLIDER_STEPS
+    if value is not None:
+        for step in steps:
+            if _on_grid(value, low, step) and _on_grid(high, low, step):
+                return step
+        for step in steps:
+            if _on_grid(value, low, step):
+                return step
+    return steps[0]
 
 
 def parameter_widget(name: str, spec, default=None) -> w.ValueWidget:
@@ -56,14 +103,20 @@ def parameter_widget(name: str, spec, default=None) -> w.ValueWidget:
     if not hi > lo:
         raise ValueError(f"Parameter {name!r} needs low < high, got {spec!r}.")
     ints = all(isinstance(v, (int, np.integer)) and not isinstance(v, bool) for v in spec)
-    step = spec[2] if len(spec) == 3 else (1 if ints else (hi - lo) / SLIDER_STEPS)
+    start = default if isinstance(default, (int, float)) and not isinstance(default, bool) \
+        and lo <= default <= hi else None
+    step = spec[2] if len(spec) == 3 else (1 if ints else round_step(lo, hi, start))
     if ints:
         start = default if isinstance(default, int) and lo <= default <= hi else lo + ((hi - lo) // step // 2) * step
         return w.IntSlider(min=lo, max=hi, step=step, value=start, description=name,
                            continuous_update=True, style=style)
-    start = default if isinstance(default, (int, float)) and lo <= default <= hi else (lo + hi) / 2
+    if start is None:
+        mid = (lo + hi) / 2                 # the grid point nearest the middle
+        start = lo + round((mid - lo) / step) * step
+    start = float(np.round(start, 12))
     return w.FloatSlider(min=lo, max=hi, step=step, value=start, description=name,
-                         continuous_update=True, readout_format=".4g", style=style)
+                         continuous_update=True, style=style,
+                         readout_format=".4")   # d3: 4 significant digits, no trailing zeros
 
 
 class Study(w.VBox):
@@ -103,6 +156,7 @@ class Study(w.VBox):
         self.control = control if control is not None else by_load(0.05)
         self.trace_options = {"target_load_factor": target_load_factor, "max_steps": max_steps}
         self.debounce = float(debounce)
+        self.values = {}
         self._curve = (node, dof)
         self._timer = None
         self._lock = threading.Lock()
@@ -115,10 +169,10 @@ class Study(w.VBox):
         self.controls = {k: parameter_widget(k, spec, defaults.get(k)) for k, spec in ranges.items()}
         self.explorer = Explorer(**(explorer_options or {}))
         self.status_label = w.HTML("")
-        self.errors = w.Output(layout=w.Layout(display="none", border="1px solid #c0392b"))
+        self.errors = ErrorBox()
         super().__init__(children=[w.HBox(list(self.controls.values()),
                                           layout=w.Layout(flex_flow="row wrap")),
-                                   self.status_label, self.explorer, self.errors])
+                                   self.status_label, self.errors, self.explorer])
         for c in self.controls.values():
             c.observe(self._moved, "value")
         self.rebuild()
@@ -146,9 +200,12 @@ class Study(w.VBox):
         with self._lock:
             pass
 
-    @shown_in_widget
     def rebuild(self) -> None:
-        """Build, trace and show the model for the current slider values."""
+        """Build, trace and show the model for the current slider values.
+
+        A failed rebuild greys the last good result out and says why in one line (the
+        traceback behind "details"); the next good one clears it.
+        """
         with self._lock:
             self._generation += 1
             params = self.parameters()
@@ -160,17 +217,30 @@ class Study(w.VBox):
                     self.explorer.show(path, *self._curve, index="last")
                 else:                                   # later: keep the point in view
                     self.explorer.show(path)
+            except Exception as exc:  # a build's error is shown in the panel, never lost
+                show_error(self, exc)
+                self.explorer.stale = self.explorer.path is not None
+                shown = ", ".join(f"{k} = {data.format_value(v) if isinstance(v, float) else v}"
+                                  for k, v in self.values.items())
+                self.status = f"failed for {self._described(params)}"
+                self.status_label.value = (
+                    f"<b style='color:#b03a2e'>failed</b> for {html.escape(self._described(params))}"
+                    + (f"; greyed out: the last good result ({html.escape(shown)})" if shown else ""))
+            else:
                 self.values = params
                 self.error = ""
-                self.errors.outputs = ()
-                self.errors.layout.display = "none"
+                self.errors.clear()
+                self.explorer.stale = False
                 self.status = (f"{len(path)} points in {time.perf_counter() - t0:.2f} s: "
                                f"{path.status} ({path.message})")
-                self.status_label.value = self.status
+                self.status_label.value = html.escape(self.status)
             finally:
-                if self.status_label.value == "<i>tracing…</i>":
-                    self.status_label.value = "<b>failed</b>: the error is shown below."
                 self.n_builds += 1
+
+    @staticmethod
+    def _described(params: dict) -> str:
+        return ", ".join(f"{k} = {data.format_value(v) if isinstance(v, float) else v}"
+                         for k, v in params.items())
 
     def _path(self, params: dict) -> EquilibriumPath:
         got = self.build(**params)

@@ -7,8 +7,13 @@ plays the animation and checks the drawing and the readout. The playback frame r
 is measured in the browser and reported (printed, and kept as a test property), not
 asserted: it depends on the machine.
 
+Screenshots of the explorer (with a hovered node), the axial force diagram, the live
+panel in each of its states and the parameter panel in its error state are saved in
+``tests/browser/artifacts/`` (or ``$LARGEROT_ARTIFACTS``; ignored by git, kept by CI
+as artefacts); the folder is printed.
+
 Outside CI the test is skipped when chromium is missing; with ``CI=true`` it fails.
-``LARGEROT_SCREENSHOT=path.png`` also saves the screenshot there (docs/explorer.png).
+``LARGEROT_SCREENSHOT=path.png`` also saves the explorer's screenshot there (docs/explorer.png).
 """
 import contextlib
 import json
@@ -32,8 +37,17 @@ CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networki
                  "--disable-component-update", "--disable-sync", "--no-first-run"]
 #: Seconds allowed for JupyterLab to answer, and for the notebook to run.
 SERVER_START, NOTEBOOK_RUN = 90, 120
-#: Seconds of playback measured.
+#: Seconds of playback over which the frame rate is measured.
 PLAYBACK = 3.0
+#: Longest wait for a whole play of the path (the explorer's default is 8 s).
+WHOLE_PLAY = 30.0
+
+
+def artifacts() -> pathlib.Path:
+    """The folder the screenshots go to (made if missing)."""
+    d = pathlib.Path(os.environ.get("LARGEROT_ARTIFACTS", HERE / "artifacts"))
+    d.mkdir(parents=True, exist_ok=True)
+    return d
 
 
 def _missing(what: str):
@@ -146,12 +160,35 @@ def lab(tmp_path):
         pytest.fail(str(exc))
 
 
-def _canvas_image(page) -> str:
-    return page.evaluate("document.querySelector('.largerot-canvas').toDataURL()")
+def _canvas_image(locator) -> str:
+    return locator.locator(".largerot-canvas").first.evaluate("c => c.toDataURL()")
 
 
-def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property):
+def _cell(page, name: str):
+    """The output of the notebook cell whose code starts with ``# CELL name``."""
+    cell = page.locator(".jp-CodeCell", has_text=f"# CELL {name}").first
+    cell.scroll_into_view_if_needed()
+    return cell.locator(".jp-OutputArea-output").last
+
+
+def _state(out) -> str:
+    return out.locator(".largerot-state [data-state]").first.get_attribute("data-state")
+
+
+def _button(out, name: str):
+    """A button by its words (an icon's glyph is not part of its text)."""
+    return out.locator("button").filter(has_text=re.compile(rf"^\s*{name}\s*$")).first
+
+
+def _enabled(out) -> list:
+    names = ["step", "run", "pause", "previous", "reset"]
+    return [n for n in names if _button(out, n).is_enabled()]
+
+
+def test_widgets_in_jupyterlab(lab, record_property):
     chromium, sync_playwright = _browser()
+    shots = artifacts()
+    print(f"screenshots in {shots}")
     with sync_playwright() as pw:
         browser = pw.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
         try:
@@ -162,18 +199,18 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
             page.wait_for_function("() => (window.__largerot || {}).draws > 0", timeout=30_000)
             expect = page.locator(".jp-OutputArea-output", has_text="EXPECT").inner_text()
             lam = re.search(r"λ = (\S+)", expect).group(1)
+            tip = int(re.search(r"TIP NODE (\d+)", page.locator(".jp-OutputArea-output",
+                                                                 has_text="TIP NODE").inner_text()).group(1))
+            py_ms = page.locator(".jp-OutputArea-output", has_text="PYTHON index").inner_text()
 
-            explorer = page.locator(".jp-OutputArea-output", has=page.locator(".largerot-canvas")).first
-            explorer.scroll_into_view_if_needed()
+            # -- the explorer: scrub, hover, play ----------------------------------------
+            explorer = _cell(page, "explorer")
+            readout = explorer.locator(".largerot-readout")
             page.wait_for_function(
                 "() => document.querySelector('.largerot-readout').textContent.includes('point 0 of 1000')",
                 timeout=10_000)
-            before = _canvas_image(page)
-            py_ms = page.locator(".jp-OutputArea-output", has_text="PYTHON index").inner_text()
-
-            # move the point slider: type into its editable readout
-            slider = explorer.locator(".widget-slider", has_text="point")
-            box = slider.locator(".widget-readout")
+            before = _canvas_image(explorer)
+            box = explorer.locator(".widget-slider", has_text="point").locator(".widget-readout")
             box.click()
             page.keyboard.press("Control+A")
             page.keyboard.type("600")
@@ -181,17 +218,27 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
             page.wait_for_function(
                 "() => document.querySelector('.largerot-readout').textContent.includes('point 600 of')",
                 timeout=10_000)
-            text = explorer.locator(".largerot-readout").inner_text()
+            text = readout.inner_text()
             assert f"λ = {lam}" in text, text
-            after = _canvas_image(page)
+            assert "stable" in text
+            after = _canvas_image(explorer)
             assert after != before                      # the drawn shape changed
 
-            shot = tmp_path / "explorer.png"
-            explorer.screenshot(path=str(shot))
+            # hover over the tip: its node id and displacements appear
+            canvas = explorer.locator(".largerot-canvas")
+            xy = canvas.evaluate(f"c => c.largerotNodePixel({tip})")
+            bb = canvas.bounding_box()
+            page.mouse.move(bb["x"] + xy[0], bb["y"] + xy[1])
+            page.wait_for_function("c => (c.dataset.hover || '').length > 0",
+                                   arg=canvas.element_handle(), timeout=5_000)
+            hover = canvas.get_attribute("data-hover")
+            assert hover.startswith(f"node {tip}") and "ux = " in hover and "uy = " in hover, hover
+            explorer.screenshot(path=str(shots / "explorer.png"))
             if os.environ.get("LARGEROT_SCREENSHOT"):
-                shutil.copy(shot, os.environ["LARGEROT_SCREENSHOT"])
+                shutil.copy(shots / "explorer.png", os.environ["LARGEROT_SCREENSHOT"])
+            page.mouse.move(bb["x"] + bb["width"] - 5, bb["y"] + bb["height"] + 40)
 
-            # play: count draws and animation frames in the browser
+            # play from the start with the default options: count draws in the browser
             box.click()
             page.keyboard.press("Control+A")
             page.keyboard.type("0")
@@ -204,7 +251,7 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
                 const tick = () => { s.mark.raf += 1; if (!s.mark.stop) requestAnimationFrame(tick); };
                 requestAnimationFrame(tick);
             }""")
-            explorer.locator(".widget-play button").first.click()
+            _button(explorer, "play").click()
             page.wait_for_timeout(PLAYBACK * 1000)
             m = page.evaluate("""() => {
                 const s = window.__largerot; s.mark.stop = true;
@@ -213,53 +260,91 @@ def test_explorer_scrubs_and_plays_in_jupyterlab(lab, tmp_path, record_property)
                         raf: s.mark.raf,
                         index: +document.querySelector('.largerot-readout').dataset.index};
             }""")
-            explorer.locator(".widget-play button").nth(1).click()      # pause
-            played = _canvas_image(page)
+            # and the whole path: how long until the last point is shown
+            page.wait_for_function(
+                "() => document.querySelector('.largerot-readout').dataset.index === '1000'",
+                timeout=WHOLE_PLAY * 1000)
+            whole = page.evaluate("() => (performance.now() - window.__largerot.mark.t) / 1000")
+            page.wait_for_function("() => [...document.querySelectorAll('button')]"
+                                   ".some(b => b.textContent.trim() === 'play')", timeout=5_000)
             fps = m["draws"] / m["dt"]
-            report = (f"explorer playback in chromium: {fps:.1f} frames/s drawn "
+            report = (f"explorer playback in headless chromium: {fps:.1f} frames/s drawn "
                       f"(display {m['raf'] / m['dt']:.1f} animation frames/s), "
                       f"{m['ms'] / max(1, m['draws']):.2f} ms per draw, 200 elements, "
-                      f"1001 points, reached point {m['index']}")
+                      f"1001 points; the whole path played in {whole:.1f} s")
             print(report)
             print(py_ms.strip())
+            (shots / "playback.txt").write_text(report + "\n" + py_ms.strip() + "\n")
             record_property("playback_fps", round(fps, 1))
+            record_property("whole_play_s", round(whole, 2))
             record_property("draw_ms", round(m["ms"] / max(1, m["draws"]), 3))
             assert m["draws"] > 10 and m["index"] > 10   # frames were drawn while playing
-            assert played != after
+            assert "point 1000 of 1000" in readout.inner_text()
+            # the kernel hears where the play stopped (the slider follows)
+            page.wait_for_function(
+                "el => el.value === '1000' || el.textContent.trim() === '1000'",
+                arg=box.element_handle(), timeout=5_000)
 
-            # live stepping: run to λ = 1 in the kernel's background thread
-            lv = page.locator(".jp-OutputArea-output", has=page.locator("button", has_text="reset")).first
-            lv.scroll_into_view_if_needed()
-            lv.locator("button", has_text="run").first.click()
+            # -- the axial force diagram: two colours, extremes written ----------------
+            forces = _cell(page, "forces")
+            fcanvas = forces.locator(".largerot-canvas")
+            page.wait_for_function("c => (c.dataset.extremes || '').split(' ').length === 2",
+                                   arg=fcanvas.element_handle(), timeout=10_000)
+            ext = fcanvas.get_attribute("data-extremes").split()
+            assert float(ext[0].replace("e", "E")) > 0 > float(ext[1].replace("e", "E")), ext
+            text = forces.locator(".largerot-readout").inner_text()
+            assert "min N = " in text and "max N = " in text
+            forces.screenshot(path=str(shots / "forces-N.png"))
+
+            # -- the live panel in each state --------------------------------------------
+            for name, state, on in [("live-idle", "idle", ["step", "run"]),
+                                    ("live-paused", "paused", ["step", "run", "previous", "reset"]),
+                                    ("live-finished", "finished", ["previous", "reset"]),
+                                    ("live-failed", "failed", ["previous", "reset"])]:
+                out = _cell(page, name)
+                assert _state(out) == state, name
+                assert _enabled(out) == on, (name, _enabled(out))
+                out.screenshot(path=str(shots / f"{name}.png"))
+            failed = _cell(page, "live-failed")
+            assert "FloatingPointError: the tangent has a NaN" in failed.inner_text()
+            assert "Traceback" not in failed.inner_text()      # folded behind details
+            failed.locator(".largerot-error summary").click()
+            page.wait_for_function("el => el.innerText.includes('Traceback')",
+                                   arg=failed.element_handle(), timeout=5_000)
+            failed.screenshot(path=str(shots / "live-failed-details.png"))
+
+            # tracing: press run on a long trace, look, pause
+            out = _cell(page, "live-tracing")
+            _button(out, "run").click()
+            page.wait_for_function("el => el.querySelector('[data-state]').dataset.state === 'tracing'",
+                                   arg=out.element_handle(), timeout=10_000)
+            assert _enabled(out) == ["pause"]
+            page.wait_for_timeout(1200)
+            out.screenshot(path=str(shots / "live-tracing.png"))
+            _button(out, "pause").click()
+            page.wait_for_function("el => el.querySelector('[data-state]').dataset.state === 'paused'",
+                                   arg=out.element_handle(), timeout=30_000)
+
+            # the first panel runs to λ = 1 in the kernel's background thread
+            lv = _cell(page, "live-run")
+            _button(lv, "run").click()
             page.wait_for_function(
-                "() => [...document.querySelectorAll('.widget-html')]"
-                ".some(e => e.textContent.includes('21 points') && e.textContent.includes('target'))",
-                timeout=60_000)
-            readouts = page.locator(".largerot-readout")
-            page.wait_for_function(
-                "() => document.querySelectorAll('.largerot-readout')[1].textContent.includes('λ = 1 ')")
-            assert "point 20 of 20" in readouts.nth(1).inner_text()
+                "el => el.querySelector('[data-state]').dataset.state === 'finished'",
+                arg=lv.element_handle(), timeout=60_000)
+            page.wait_for_function("el => el.querySelector('.largerot-readout').textContent"
+                                   ".includes('point 20 of 20')", arg=lv.element_handle(), timeout=10_000)
+            assert "λ = 1 " in lv.locator(".largerot-readout").inner_text()
             assert "Reached the target load factor" in lv.inner_text()
-            assert readouts.count() == 4       # explorer, live view, study panel, force diagram
+            assert _enabled(lv) == ["previous", "reset"]
 
-            # the force diagram toggle: the drawing with the diagram differs from without
-            fd = page.locator(".jp-OutputArea-output", has_text="point 10 of 10").first
-            fd.scroll_into_view_if_needed()
-            canvas = fd.locator(".largerot-canvas")
-            with_diagram = canvas.evaluate("c => c.toDataURL()")
-            assert "bending moment M diagram" in fd.inner_text()
-            fd.get_by_role("button", name="off", exact=True).click()
-            page.wait_for_function("([c, old]) => c.toDataURL() !== old",
-                                   arg=[canvas.element_handle(), with_diagram], timeout=10_000)
-            assert "bending moment M diagram" not in fd.inner_text()
-            if os.environ.get("LARGEROT_SCREENSHOT"):
-                shot = pathlib.Path(os.environ["LARGEROT_SCREENSHOT"])
-                lv.screenshot(path=str(shot.with_name("live.png")))
-                fd.get_by_role("button", name="M", exact=True).click()
-                page.wait_for_timeout(300)
-                fd.screenshot(path=str(shot.with_name("forces.png")))
-                page.locator(".jp-OutputArea-output", has=page.locator(".widget-slider", has_text="height")) \
-                    .first.screenshot(path=str(shot.with_name("study.png")))
+            # -- the parameter panel: one good, one in its error state ---------------------
+            _cell(page, "study").screenshot(path=str(shots / "study.png"))
+            bad = _cell(page, "study-error")
+            assert "ValueError: no tube section is listed for a 11 m pole" in bad.inner_text()
+            assert "Traceback" not in bad.inner_text()
+            assert bad.locator(".largerot-explorer").first.get_attribute("data-stale") == "1"
+            bad.screenshot(path=str(shots / "study-error.png"))
             assert not errors, errors
         finally:
             browser.close()
+    print("screenshots:", ", ".join(sorted(p.name for p in shots.glob("*.png"))))
