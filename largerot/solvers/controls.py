@@ -76,18 +76,35 @@ class by_displacement(StepControl):
     """Displacement control: ``node``'s ``dof`` advances by ``step`` per point.
 
     Passes limit points in load; λ is solved for with a bordered system.
+
+    Parameters
+    ----------
+    node : int or str
+        The controlled node: its id or its name (resolved against the structure
+        when the trace starts).
+    dof : {"ux", "uy", "rz"}
+        The controlled DOF.
+    step : float
+        Increment of that DOF per point (a length, or radians for ``"rz"``, in the
+        structure's units); negative to move the other way.
+    min_step : float, optional
+        Smallest increment tried after cuts (default ``|step|/1024``).
     """
 
-    node: int
+    node: int | str
     dof: str
     step: float
     min_step: float | None = None
 
     def __post_init__(self) -> None:
-        if isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)):
-            raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer), "
-                            f"got {self.node!r}.")
-        if self.node < 0:
+        if isinstance(self.node, str):
+            if not self.node.strip():
+                raise ModelError(f"by_displacement: `node` must be a node id or a node's name, "
+                                 f"got {self.node!r}.")
+        elif isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)):
+            raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer) "
+                            f"or a node's name, got {self.node!r}.")
+        elif self.node < 0:
             raise ModelError(f"by_displacement: `node` must be a node id (a non-negative integer), "
                              f"got {self.node!r}.")
         if not isinstance(self.dof, str):
