@@ -598,7 +598,10 @@ class Structure(Labels):
             obstacles=tuple(contact_obstacles),
             contact_obstacle=np.array([contact_obstacles.index(o) for _, o in self._contacts],
                                       dtype=np.int64),
-            units=self.units, named_nodes=tuple(sorted(self._name_of.items())))
+            units=self.units, named_nodes=tuple(sorted(self._name_of.items())),
+            nodal_loads=np.array([(n, d, v, float(c)) for (n, d, c), v in self._loads.items()],
+                                 dtype=float).reshape(-1, 4),
+            line_loads=tuple(self._line_loads), gravity=self._gravity)
 
     def _warn_fixed_loads(self) -> None:
         """An InputWarning for nodal loads on restrained DOFs: the support takes them."""

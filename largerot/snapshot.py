@@ -144,6 +144,12 @@ class Model(Labels):
         The system the structure's numbers are in (labels only).
     named_nodes : tuple of (int, str) pairs
         Nodes the user named, by id (see :meth:`node_label`, :attr:`node_names`).
+    nodal_loads : ndarray, shape (n_loads, 4)
+        Nodal loads as given, for drawing: node, component (0 fx, 1 fy, 2 mz),
+        value, constant (1.0) or reference (0.0). Follower loads are in ``followers``.
+    line_loads : tuple of (member, qx, qy, normal, tangential, constant)
+        Line loads as given, for drawing.
+    gravity : tuple (g, dx, dy, constant) or None
     """
 
     xy: np.ndarray
@@ -169,6 +175,9 @@ class Model(Labels):
     # defaults: a Model saved before units and names existed loads with SI and no names
     units: Units = field(default=Units())
     named_nodes: tuple = field(default=())
+    nodal_loads: np.ndarray = field(default_factory=lambda: np.zeros((0, 4)))
+    line_loads: tuple = field(default=())
+    gravity: tuple | None = field(default=None)
 
     def __post_init__(self) -> None:
         for value in vars(self).values():
@@ -265,6 +274,8 @@ class Model(Labels):
         return state
 
     def __setstate__(self, state: dict) -> None:
+        if "nodal_loads" not in state:        # saved before the drawing tables existed
+            state = {"nodal_loads": np.zeros((0, 4)), **state}
         for k, v in state.items():
             object.__setattr__(self, k, v)
         self.__post_init__()
