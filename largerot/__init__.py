@@ -10,6 +10,7 @@ from .sections import Section
 from .fibres import FibreSection
 from .elements.contact import Circle, Line
 from .snapshot import Model
+from .units import Units
 from .mesh_check import MeshWarning
 from .storage import FileFormatError, load, save
 from .sweep import grid, sweep
@@ -29,4 +30,4 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "InputWarning", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "trace", "iterate", "STATUS", "Model", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]
+           "imperfect", "trace", "iterate", "STATUS", "Model", "Units", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]

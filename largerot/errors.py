@@ -139,13 +139,40 @@ def checked_integer(owner: str, name: str, value, *, lower: int | None = None,
     return v
 
 
-def checked_node(node, n_nodes: int, what: str) -> int:
-    """A node id as an int, or a TypeError (not an integer) or ModelError (unknown node).
+def checked_node(node, n_nodes: int, what: str, names=None) -> int:
+    """A node id as an int, from an id or a node's name.
 
-    ``what`` says who asks ("Member 3", "fix", "path.displacement").
+    Parameters
+    ----------
+    node : int or str
+        A node id, or the name given to :meth:`Structure.node`.
+    n_nodes : int
+    what : str
+        Who asks ("Member 3", "fix", "path.displacement").
+    names : mapping of str to int, optional
+        The structure's node names.
+
+    Raises
+    ------
+    TypeError
+        Neither an integer nor a string.
+    ModelError
+        An unknown id or name (the message names it and lists some known names).
     """
+    if isinstance(node, str):
+        if names and node in names:
+            return int(names[node])
+        known = sorted(names or ())
+        listed = (f"; named nodes: {', '.join(map(repr, known[:MAX_LISTED]))}"
+                  + (f" and {len(known) - MAX_LISTED} more" if len(known) > MAX_LISTED else "")
+                  if known else "; the structure has no named nodes")
+        raise ModelError(f"{what}: unknown node name {node!r}{listed}.")
     if isinstance(node, (bool, np.bool_)) or not isinstance(node, (numbers.Integral, np.integer)):
-        raise TypeError(f"{what}: node id must be an integer, got {node!r}.")
+        raise TypeError(f"{what}: node id must be an integer, got {node!r} (a node is given by its id or its name).")
     if not 0 <= node < n_nodes:
         raise ModelError(f"{what}: unknown node {node!r} (the structure has {n_nodes} nodes).")
     return int(node)
+
+
+#: Names listed in the message of an unknown name (a structure may name many nodes).
+MAX_LISTED = 10

@@ -15,7 +15,8 @@ import numpy as np
 from .errors import ModelError, checked_integer, checked_node, is_real, warn_input
 from .geometry import hanging_chain
 from .sections import Section
-from .snapshot import Model
+from .snapshot import Labels, Model
+from .units import Units, checked_units
 
 __all__ = ["Structure", "Member", "DOFS", "dof_index"]
 
@@ -53,6 +54,8 @@ class Member:
         Indices of its elements among the elements of its kind (a cable's segments
         are tension-only bar elements, counted among the bars).
     section : Section
+    name : str or None
+        The name given when it was added (``s.beam(..., name="mast")``).
     """
 
     id: int
@@ -60,6 +63,7 @@ class Member:
     node_array: np.ndarray = field(repr=False)
     elements: np.ndarray = field(repr=False)
     section: Section = field(repr=False)
+    name: str | None = None         # default: a Member saved before names loads unnamed
 
     def __post_init__(self) -> None:
         self.node_array.setflags(write=False)
@@ -75,7 +79,8 @@ class Member:
         return int(self.node_array[0]), int(self.node_array[-1])
 
     def __repr__(self) -> str:
-        return f"Member(id={self.id!r}, kind={self.kind!r}, nodes={self.nodes!r})"
+        name = f", name={self.name!r}" if self.name is not None else ""
+        return f"Member(id={self.id!r}, kind={self.kind!r}{name}, nodes={self.nodes!r})"
 
 
 class _Rows:
@@ -166,6 +171,17 @@ def _check_section(section, mid: int) -> None:
                         f"largerot.FibreSection, got {section!r}.")
 
 
+def _checked_name(name, owner: str):
+    """A node's or member's name: None or a non-empty string."""
+    if name is None:
+        return None
+    if not isinstance(name, str):
+        raise TypeError(f"{owner}: `name` must be a string, got {name!r}.")
+    if not name.strip():
+        raise ModelError(f"{owner}: `name` must be a non-empty string, got {name!r}.")
+    return name
+
+
 def _segments(segments, mid: int) -> int:
     n = checked_integer(f"Member {mid}:", "segments", segments)
     if n < 1:
@@ -173,12 +189,26 @@ def _segments(segments, mid: int) -> int:
     return n
 
 
-class Structure:
+class Structure(Labels):
     """A planar structure of beams and bars with large rotations.
 
     Every node has three DOFs, ``"ux"``, ``"uy"`` and ``"rz"`` (x right, y up,
     rotation counter-clockwise). A node that no beam touches has no rotational
     stiffness: its rotation is dropped automatically.
+
+    Parameters
+    ----------
+    units : {"N-m", "kN-m", "N-mm", "kip-in"} or Units
+        The consistent system every number of the structure is given in (SI by
+        default). Numbers are never converted: the units label axes, readouts and
+        table columns, and set the default g of :meth:`gravity`. See
+        :mod:`largerot.units` for what each system means for force, length,
+        moment, stress, mass density, spring stiffness and line load.
+
+    Nodes and members may be named (``s.node(0, 10, name="tip")``,
+    ``s.beam(a, b, sec, name="mast")``); every method that takes a node id also
+    takes its name, and labels use names where given (``s.dof_label("tip", "uy")``
+    is ``"uy of tip [m]"``).
 
     Examples
     --------
@@ -194,7 +224,10 @@ class Structure:
     #: what :func:`largerot.save` writes it as
     saved_kind = "structure"
 
-    def __init__(self) -> None:
+    def __init__(self, units: str | Units = "N-m") -> None:
+        self.units = checked_units(units)
+        self._named: dict[str, int] = {}                         # node name -> id
+        self._name_of: dict[int, str] = {}                       # node id -> name
         self._xy = _Rows(2, float)                               # node coordinates
         # per element of each table: end nodes and section id
         self._elements = {"beam": _Rows(3, np.int64), "bar": _Rows(3, np.int64)}
@@ -227,15 +260,32 @@ class Structure:
         """Undeformed node coordinates, shape (n_nodes, 2)."""
         return self._xy.array()
 
-    def node(self, x: float, y: float) -> int:
-        """Add a node at (x, y) and return its id."""
+    def node(self, x: float, y: float, name: str | None = None) -> int:
+        """Add a node at (x, y) and return its id.
+
+        ``name`` (unique among the nodes) may then stand for the id in every call
+        that takes a node, and labels the node in figures and tables.
+        """
         n = len(self._xy)
+        name = _checked_name(name, f"Node {n}")
+        if name in self._named:
+            raise ModelError(f"Node {n}: the name {name!r} is taken by node {self._named[name]}; "
+                             "node names must be unique.")
         self._xy.extend((_coordinate(f"Node {n} x", x), _coordinate(f"Node {n} y", y)))
+        if name is not None:
+            self._named[name] = n
+            self._name_of[n] = name
         self._changed()
         return n
 
     def _check_node(self, n, what: str) -> int:
-        return checked_node(n, len(self._xy), what)
+        return checked_node(n, len(self._xy), what, self._named)
+
+    def _node_names(self) -> dict:
+        return self._named
+
+    def _names_of_nodes(self) -> dict:
+        return self._name_of
 
     def _section_id(self, section: Section) -> int:
         from .fibres import FibreSection     # a beam may yield: its section has fibres
@@ -248,8 +298,9 @@ class Structure:
         return len(self._sections) - 1
 
     def _member(self, kind: str, a, b, section: Section, segments, *,
-                points=None, L0=None) -> Member:
+                points=None, L0=None, name=None) -> Member:
         mid = len(self.members)
+        name = self._member_name(name, mid)
         a = self._check_node(a, f"Member {mid}")
         b = self._check_node(b, f"Member {mid}")
         _check_section(section, mid)
@@ -281,25 +332,38 @@ class Structure:
             self._bar_L0.extend(np.full(segments, np.nan if L0 is None else float(L0)))
             self._bar_cable.extend(np.full(segments, kind == "cable"))
         self._member_ends[key] = mid
-        member = Member(mid, kind, chain, np.arange(first, first + segments), section)
+        member = Member(mid, kind, chain, np.arange(first, first + segments), section, name)
         self.members.append(member)
         self._changed()
         return member
 
-    def beam(self, a: int, b: int, section: Section, segments: int = 1) -> Member:
-        """Add a corotational Euler–Bernoulli beam from node ``a`` to ``b``.
+    def _member_name(self, name, mid: int):
+        name = _checked_name(name, f"Member {mid}")
+        if name is not None and any(m.name == name for m in self.members):
+            taken = next(m.id for m in self.members if m.name == name)
+            raise ModelError(f"Member {mid}: the name {name!r} is taken by member {taken}; "
+                             "member names must be unique.")
+        return name
+
+    def beam(self, a: int | str, b: int | str, section: Section, segments: int = 1, *,
+             name: str | None = None) -> Member:
+        """Add a corotational Euler–Bernoulli beam from node ``a`` to ``b`` (ids or names).
 
         The member is meshed into ``segments`` equal elements; the intermediate
-        nodes are created and listed in ``member.nodes``.
+        nodes are created (unnamed) and listed in ``member.nodes``. ``name``
+        (unique among the members) labels it and stands for it in
+        :meth:`line_load`.
         """
-        return self._member("beam", a, b, section, segments)
+        return self._member("beam", a, b, section, segments, name=name)
 
-    def bar(self, a: int, b: int, section: Section, segments: int = 1) -> Member:
-        """Add an axial-only (pin-ended) corotational bar from ``a`` to ``b``."""
-        return self._member("bar", a, b, section, segments)
+    def bar(self, a: int | str, b: int | str, section: Section, segments: int = 1, *,
+            name: str | None = None) -> Member:
+        """Add an axial-only (pin-ended) corotational bar from ``a`` to ``b`` (ids or names)."""
+        return self._member("bar", a, b, section, segments, name=name)
 
-    def cable(self, a: int, b: int, section: Section, segments: int | None = None, *,
-              unstretched_length: float | None = None, pretension: float | None = None) -> Member:
+    def cable(self, a: int | str, b: int | str, section: Section, segments: int | None = None, *,
+              unstretched_length: float | None = None, pretension: float | None = None,
+              name: str | None = None) -> Member:
         """Add a tension-only cable from ``a`` to ``b``, meshed into ``segments`` elements.
 
         Each segment is a corotational bar that carries N = EA·(l − l0)/l0 when
@@ -323,6 +387,7 @@ class Structure:
             l0 = chord·EA/(EA + T).
         """
         mid = len(self.members)
+        self._member_name(name, mid)
         _check_section(section, mid)
         if segments is not None:
             segments = _segments(segments, mid)
@@ -350,9 +415,10 @@ class Structure:
                     points = hanging_chain(self._xy[a], self._xy[b], L, int(segments), down)
                 except ModelError as exc:
                     raise ModelError(f"Member {mid} (nodes {a}→{b}): {exc}") from None
-        return self._member("cable", a, b, section, segments, points=points, L0=L / segments)
+        return self._member("cable", a, b, section, segments, points=points, L0=L / segments,
+                            name=name)
 
-    def gravity(self, g: float = 9.81, direction=(0.0, -1.0), constant: bool = True) -> None:
+    def gravity(self, g: float | None = None, direction=(0.0, -1.0), constant: bool = True) -> None:
         """Self-weight of every member whose section has a density.
 
         The weight ρ·A·g per unit unstretched length goes to the element ends as
@@ -361,8 +427,17 @@ class Structure:
         are left out; the error vanishes with the mesh, O(h²)). Held at full value
         along the path unless ``constant=False``, when it is scaled by the load factor.
         Calling it again replaces the earlier gravity.
+
+        Parameters
+        ----------
+        g : float, optional
+            Acceleration in the structure's units (length/s²). Default: 9.81 m/s²
+            in its length unit (``s.units.gravity``: 9.81 for N-m and kN-m, 9810 for
+            N-mm, 386.2 for kip-in).
+        direction : pair of float
+        constant : bool
         """
-        g = _finite("Gravity g", g)
+        g = _finite("Gravity g", self.units.gravity if g is None else g)
         if isinstance(direction, str) or not hasattr(direction, "__len__") or len(direction) != 2:
             raise TypeError(f"Gravity `direction` must be a pair (dx, dy), got {direction!r}.")
         d = np.array([_finite("Gravity direction x", direction[0]),
@@ -379,9 +454,11 @@ class Structure:
 
         Parameters
         ----------
-        member : Member or int
+        member : Member, int or str
+            The member, its id or its name.
         qx, qy : float
-            Dead load per unit undeformed length in the global directions.
+            Dead load per unit undeformed length in the global directions
+            (force/length of the structure's units).
         normal, tangential : float
             Follower load per unit *deformed* length, normal to each deformed element
             (positive to the left of the member's direction a→b, i.e. the chord
@@ -397,20 +474,15 @@ class Structure:
         self._changed()
 
     def _get_member(self, member) -> Member:
-        mid = member.id if isinstance(member, Member) else member
-        if isinstance(mid, (bool, np.bool_)) or not isinstance(mid, (int, np.integer)):
-            raise TypeError(f"A member is given as a Member or its integer id, got {member!r}.")
-        if not 0 <= mid < len(self.members):
-            raise ModelError(f"Unknown member {member!r} (the structure has {len(self.members)} members).")
-        return self.members[int(mid)]
+        return self.members[self.member_id(member, "line_load")]
 
     def contact(self, nodes, obstacle) -> None:
         """Keep nodes out of a rigid obstacle (frictionless, unilateral).
 
         Parameters
         ----------
-        nodes : int or sequence of int
-            Nodes that may touch it (e.g. ``member.nodes`` to sample a member).
+        nodes : int, str or sequence of them
+            Nodes (ids or names) that may touch it (e.g. ``member.nodes`` to sample a member).
         obstacle : largerot.Line or largerot.Circle
             A half-plane (the free side is where its normal points) or a round stop.
 
@@ -421,7 +493,7 @@ class Structure:
         from .elements.contact import Circle, Line
         if not isinstance(obstacle, (Line, Circle)):
             raise ModelError(f"Expected an obstacle, largerot.Line or largerot.Circle, got {obstacle!r}.")
-        ids = [nodes] if isinstance(nodes, (int, np.integer)) else list(nodes)
+        ids = [nodes] if isinstance(nodes, (int, np.integer, str)) else list(nodes)
         for n in ids:
             n = self._check_node(n, "contact")
             if any(m == n and o is obstacle for m, o in self._contacts):
@@ -433,8 +505,8 @@ class Structure:
         """(node, obstacle) pairs in the order given."""
         return list(self._contacts)
 
-    def fix(self, node: int, *dofs: str) -> None:
-        """Restrain DOFs of a node; all three when none are named.
+    def fix(self, node: int | str, *dofs: str) -> None:
+        """Restrain DOFs of a node (id or name); all three when none are named.
 
         ``s.fix(n)`` clamps, ``s.fix(n, "ux", "uy")`` pins, ``s.fix(n, "uy")`` is a roller.
         """
@@ -443,9 +515,9 @@ class Structure:
             self._fixed.add((node, dof_index(d)))
         self._changed()
 
-    def load(self, node: int, fx: float = 0.0, fy: float = 0.0, mz: float = 0.0,
+    def load(self, node: int | str, fx: float = 0.0, fy: float = 0.0, mz: float = 0.0,
              constant: bool = False, follower: bool = False) -> None:
-        """Add a nodal load.
+        """Add a nodal load at a node (id or name): forces fx, fy and moment mz.
 
         The reference load is scaled by the load factor; a ``constant`` load is held
         at full value along the whole path (e.g. a dead weight present from the start).
@@ -470,12 +542,11 @@ class Structure:
                 self._loads[key] = self._loads.get(key, 0.0) + v
         self._changed()
 
-    def spring(self, node: int, dof: str, stiffness: float) -> None:
+    def spring(self, node: int | str, dof: str, stiffness: float) -> None:
         """Attach a linear spring between a node's DOF and the ground.
 
-        ``stiffness`` is force per length (e.g. N/m) on ``"ux"`` and ``"uy"``, moment
-        per radian (e.g. N·m/rad) on ``"rz"``, in the structure's consistent units.
-        Springs on one DOF add up.
+        ``stiffness`` is a force per length for ``"ux"``/``"uy"`` (N/m in SI) and a
+        moment per radian for ``"rz"`` (N·m/rad), in the structure's units.
         """
         node = self._check_node(node, "spring")
         dof_index(dof)
@@ -526,7 +597,11 @@ class Structure:
             contact_nodes=np.array([n for n, _ in self._contacts], dtype=np.int64),
             obstacles=tuple(contact_obstacles),
             contact_obstacle=np.array([contact_obstacles.index(o) for _, o in self._contacts],
-                                      dtype=np.int64))
+                                      dtype=np.int64),
+            units=self.units, named_nodes=tuple(sorted(self._name_of.items())),
+            nodal_loads=np.array([(n, d, v, float(c)) for (n, d, c), v in self._loads.items()],
+                                 dtype=float).reshape(-1, 4),
+            line_loads=tuple(self._line_loads), gravity=self._gravity)
 
     def _warn_fixed_loads(self) -> None:
         """An InputWarning for nodal loads on restrained DOFs: the support takes them."""
@@ -565,6 +640,11 @@ class Structure:
         state = dict(self.__dict__)
         state.pop("_snapshot", None)          # a cache, rebuilt on demand
         return state
+
+    def __setstate__(self, state: dict) -> None:
+        # a Structure saved before units and names existed: SI, nothing named
+        self.__dict__.update(units=Units(), _named={}, _name_of={})
+        self.__dict__.update(state)
 
     def __deepcopy__(self, memo) -> "Structure":
         new = Structure.__new__(Structure)

@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import ModelError, checked_integer, checked_node
+from .errors import ModelError, checked_integer
 from .elements import beam as beam_kernel
 from .model import DOFS, dof_index
 from .snapshot import Model
@@ -73,8 +73,8 @@ class _Displacements:
 
     structure: Model
 
-    def _column(self, node: int, dof: str) -> int:
-        node = checked_node(node, self.structure.n_nodes, "displacement")
+    def _column(self, node: int | str, dof: str) -> int:
+        node = self.structure.node_id(node, "displacement")
         return 3 * node + dof_index(dof)
 
 
@@ -97,7 +97,8 @@ class Point(_Displacements):
         self.structure, self.index, self.load_factor = structure, index, float(load_factor)
         self.u, self.iterations = u, iterations
 
-    def displacement(self, node: int, dof: str) -> float:
+    def displacement(self, node: int | str, dof: str) -> float:
+        """One DOF (``"ux"``, ``"uy"``, ``"rz"``) of one node (id or name) at this point."""
         return float(self.u[self._column(node, dof)])
 
     def coordinates(self) -> np.ndarray:
@@ -208,8 +209,11 @@ class EquilibriumPath(_Displacements):
             self._u_full = full
         return self._u_full
 
-    def displacement(self, node: int, dof: str) -> np.ndarray:
-        """One DOF of one node at every point, shape (n_points,)."""
+    def displacement(self, node: int | str, dof: str) -> np.ndarray:
+        """One DOF of one node (id or name) at every point, shape (n_points,).
+
+        Its label, with the unit: ``path.model.dof_label(node, dof)``.
+        """
         return self._u_free_column(self._column(node, dof))
 
     def _u_free_column(self, g: int) -> np.ndarray:
@@ -277,11 +281,13 @@ class EquilibriumPath(_Displacements):
         """What the trace recorded at point ``i`` (history-dependent forces among it)."""
         return {k: v[i] for k, v in self.extra.items()}
 
-    def reactions(self, i: int) -> np.ndarray:
-        """Support reactions at point ``i``, shape (3·n_nodes,) (zero at free DOFs).
+    def reaction_vector(self, i: int) -> np.ndarray:
+        """Support reactions at point ``i`` as a full DOF vector, shape (3·n_nodes,).
 
-        The force each restrained DOF receives from its support: internal force minus
-        the loads applied there.
+        The force (moment at ``"rz"``) each restrained DOF receives from its
+        support: internal force minus the loads applied there; zero at free DOFs
+        and at rotations dropped for want of a beam. :meth:`reactions` gives the
+        same numbers as a labelled table.
         """
         asm = self.structure.assembly
         i = self._index(i)
@@ -292,6 +298,34 @@ class EquilibriumPath(_Displacements):
         R[asm.free] = 0.0
         R[asm.dropped] = 0.0
         return R
+
+    def reactions(self, i: int):
+        """Support reactions at point ``i`` as a table (pandas DataFrame), one row per
+        restrained DOF.
+
+        Columns: ``"node"`` (id), ``"name"`` (the node's name, "" when unnamed),
+        ``"dof"`` (the restrained DOF, ``"ux"``, ``"uy"`` or ``"rz"``), ``"force"``
+        (its component, ``"fx"``, ``"fy"`` or ``"mz"``), ``"value"`` (what the
+        support exerts on the structure) and ``"unit"`` (the structure's force or
+        moment unit). Rotations restrained at a node without a beam carry nothing
+        and are left out. For the bare array (all DOFs): :meth:`reaction_vector`.
+        """
+        import pandas as pd
+
+        R = self.reaction_vector(i)
+        model = self.structure
+        g = np.setdiff1d(model.fixed, model.assembly.dropped)
+        node, d = g // 3, g % 3
+        names = model._names_of_nodes()
+        forces = ("fx", "fy", "mz")
+        return pd.DataFrame({
+            "node": node,
+            "name": [names.get(int(n), "") for n in node],
+            "dof": [DOFS[k] for k in d],
+            "force": [forces[k] for k in d],
+            "value": R[g],
+            "unit": [model.units.reaction_unit(forces[k]) for k in d],
+        })
 
     @property
     def yielded(self) -> np.ndarray:
@@ -314,21 +348,30 @@ class EquilibriumPath(_Displacements):
         return np.zeros((len(self), 0), dtype=bool)
 
     def forces_table(self, i: int):
-        """Element end forces at point ``i``, one row per element (pandas DataFrame)."""
+        """Element end forces at point ``i``, one row per element (pandas DataFrame).
+
+        Columns: ``"kind"``, ``"member"`` (its name, or "member 2"), ``"node_1"``,
+        ``"node_2"`` (ids), then the forces with the structure's units in their
+        names (SI: ``"N [N]"``, ``"V [N]"``, ``"M_1 [N·m]"``, ``"M_2 [N·m]"``;
+        N tension positive, M as in :meth:`member_forces`) and ``"slack"``.
+        """
         import pandas as pd
 
         f = self.member_forces(i)
-        beam_nodes, _ = self.structure.element_table("beam")
-        bar_nodes, _ = self.structure.element_table("bar")
-        cable = self.structure.tension_only()
+        model = self.structure
+        beam_nodes, _ = model.element_table("beam")
+        bar_nodes, _ = model.element_table("bar")
+        cable = model.tension_only()
+        force, moment = model.units.label("N", "force")[1:], model.units.label("M", "moment")[1:]
         rows = {
             "kind": ["beam"] * len(beam_nodes) + ["cable" if c else "bar" for c in cable],
+            "member": element_members(model),
             "node_1": np.concatenate([beam_nodes[:, 0], bar_nodes[:, 0]]),
             "node_2": np.concatenate([beam_nodes[:, 1], bar_nodes[:, 1]]),
-            "N": np.concatenate([f["beam"]["N"], f["bar"]["N"]]),
-            "V": np.concatenate([f["beam"]["V"], np.zeros(len(bar_nodes))]),
-            "M_1": np.concatenate([f["beam"]["M"][:, 0], np.zeros(len(bar_nodes))]),
-            "M_2": np.concatenate([f["beam"]["M"][:, 1], np.zeros(len(bar_nodes))]),
+            "N" + force: np.concatenate([f["beam"]["N"], f["bar"]["N"]]),
+            "V" + force: np.concatenate([f["beam"]["V"], np.zeros(len(bar_nodes))]),
+            "M_1" + moment: np.concatenate([f["beam"]["M"][:, 0], np.zeros(len(bar_nodes))]),
+            "M_2" + moment: np.concatenate([f["beam"]["M"][:, 1], np.zeros(len(bar_nodes))]),
             "slack": np.concatenate([np.zeros(len(beam_nodes), bool), f["bar"]["slack"]]),
         }
         return pd.DataFrame(rows).rename_axis("element")
@@ -337,14 +380,20 @@ class EquilibriumPath(_Displacements):
     def to_dataframe(self, nodes=None, forces: bool = False):
         """One row per point: load factor, Newton effort, stability, node displacements.
 
+        Columns carry the structure's units in their names: ``"load factor"``,
+        ``"iterations"``, ``"residual"``, ``"n_negative"``, ``"stable"``, then three
+        per node, ``model.dof_label(node, dof)`` (``"ux of tip [m]"``,
+        ``"rz of node 3 [rad]"``).
+
         Parameters
         ----------
-        nodes : sequence of int, optional
-            Nodes whose DOFs get columns (``"ux[4]"``...). Default: loaded nodes, or
+        nodes : sequence of int or str, optional
+            Nodes (ids or names) whose DOFs get columns. Default: loaded nodes, or
             every node of a structure with at most 20 nodes.
         forces : bool
-            Add the extremes of the member forces at each point: ``"max |M|"``,
-            ``"max N"``, ``"min N"`` and the number of slack cable segments.
+            Add the extremes of the member forces at each point: ``"max |M| [N·m]"``,
+            ``"max N [N]"``, ``"min N [N]"`` (SI shown) and ``"slack cables"``
+            (the number of slack cable segments).
         """
         import pandas as pd
 
@@ -353,23 +402,26 @@ class EquilibriumPath(_Displacements):
             F = s.load_vector() + s.load_vector(constant=True)
             loaded = sorted({g // 3 for g in np.flatnonzero(F)})
             nodes = range(s.n_nodes) if s.n_nodes <= 20 else loaded
+        elif isinstance(nodes, (str, int, np.integer)):
+            nodes = [nodes]
         cols = {
-            "load_factor": self.load_factor,
+            "load factor": self.load_factor,
             "iterations": self.iterations,
             "residual": [r[-1] if len(r) else 0.0 for r in self.residuals],
             "n_negative": self.n_negative,
             "stable": self.stable,
         }
         for n in nodes:
+            n = s.node_id(n, "to_dataframe")
             for d in DOFS:
-                cols[f"{d}[{n}]"] = self.displacement(n, d)
+                cols[s.dof_label(n, d)] = self.displacement(n, d)
         if forces and len(self):
             f = self.member_forces()
             N = np.concatenate([f["beam"]["N"], f["bar"]["N"]], axis=1)
             M = np.abs(f["beam"]["M"]).reshape(len(self), -1)
-            cols["max |M|"] = M.max(axis=1) if M.shape[1] else np.zeros(len(self))
-            cols["max N"] = N.max(axis=1) if N.shape[1] else np.zeros(len(self))
-            cols["min N"] = N.min(axis=1) if N.shape[1] else np.zeros(len(self))
+            cols[s.units.label("max |M|", "moment")] = M.max(axis=1) if M.shape[1] else np.zeros(len(self))
+            cols[s.units.label("max N", "force")] = N.max(axis=1) if N.shape[1] else np.zeros(len(self))
+            cols[s.units.label("min N", "force")] = N.min(axis=1) if N.shape[1] else np.zeros(len(self))
             cols["slack cables"] = self.slack.sum(axis=1)
         return pd.DataFrame(cols, index=pd.RangeIndex(len(self), name="point"))
 
@@ -378,6 +430,22 @@ class EquilibriumPath(_Displacements):
             return f"EquilibriumPath(0 points, status={self.status!r})"
         return (f"EquilibriumPath({len(self)} points, load factor "
                 f"{self.load_factor.min():.4g}…{self.load_factor.max():.4g}, status={self.status!r})")
+
+
+def element_members(model) -> np.ndarray:
+    """Label of the member of each element, beams then bars (cables among the bars).
+
+    Returns
+    -------
+    ndarray of object, shape (n_beam_elements + n_bar_elements,)
+        ``model.member_label(m)`` of each element's member ("mast", "member 2").
+    """
+    n_beam = len(model.element_table("beam")[0])
+    ids = np.full(n_beam + len(model.element_table("bar")[0]), -1, dtype=np.int64)
+    for m in model.members:                 # one slice per member, not per element
+        ids[np.asarray(m.elements) + (0 if m.kind == "beam" else n_beam)] = m.id
+    labels = np.array([model.member_label(m) for m in model.members] + [""], dtype=object)
+    return labels[ids]
 
 
 def member_lines(structure, u: np.ndarray, n_sub: int = 9) -> dict:

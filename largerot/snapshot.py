@@ -17,15 +17,97 @@ from functools import cached_property
 
 import numpy as np
 
-from .errors import ModelError, warn_input
+from .errors import ModelError, checked_node, warn_input
+from .units import Units
 
-__all__ = ["Model", "check_traceable"]
+__all__ = ["Model", "Labels", "check_traceable"]
 
 _TABLES = ("beam", "bar")
+_DOFS = ("ux", "uy", "rz")
+_FORCES = ("fx", "fy", "mz")
+
+
+class Labels:
+    """Names, ids and unit-bearing labels of nodes, DOFs and members.
+
+    Shared by :class:`~largerot.model.Structure` and :class:`Model`, so code that
+    labels a figure or a table takes either. A subclass provides ``units``,
+    ``n_nodes``, ``members`` and the two look-ups ``_node_names()`` (name → id)
+    and ``_names_of_nodes()`` (id → name); only nodes named by the user appear
+    in them (nodes made by meshing have none).
+    """
+
+    units: Units
+
+    def _node_names(self) -> dict:
+        raise NotImplementedError
+
+    def _names_of_nodes(self) -> dict:
+        raise NotImplementedError
+
+    @property
+    def node_names(self) -> dict:
+        """Named nodes: a new dict of name → node id."""
+        return dict(self._node_names())
+
+    @property
+    def member_names(self) -> dict:
+        """Named members: a new dict of name → member id."""
+        return {m.name: m.id for m in self.members if getattr(m, "name", None) is not None}
+
+    def node_id(self, node, what: str = "node") -> int:
+        """The id of a node given by its id or its name (``what`` names the asker in errors)."""
+        return checked_node(node, self.n_nodes, what, self._node_names())
+
+    def node_name(self, node) -> str | None:
+        """The name given to a node, or None."""
+        return self._names_of_nodes().get(self.node_id(node))
+
+    def node_label(self, node) -> str:
+        """``"tip"`` for a named node, ``"node 3"`` otherwise."""
+        i = self.node_id(node)
+        name = self._names_of_nodes().get(i)
+        return name if name is not None else f"node {i}"
+
+    def dof_label(self, node, dof: str) -> str:
+        """A node's DOF with its unit: ``"uy of tip [m]"``, ``"rz of node 3 [rad]"``.
+
+        ``dof`` may also be a force component, ``"fx"``, ``"fy"`` or ``"mz"``: then
+        ``"fy at tip [N]"`` (a load or a reaction).
+        """
+        if dof in _FORCES:
+            return self.units.label(f"{dof} at {self.node_label(node)}", "moment" if dof == "mz" else "force")
+        if dof not in _DOFS:
+            raise ModelError(f"Unknown DOF {dof!r}; use one of {', '.join(_DOFS + _FORCES)}.")
+        return self.units.label(f"{dof} of {self.node_label(node)}", "rotation" if dof == "rz" else "length")
+
+    def member_id(self, member, what: str = "member") -> int:
+        """The id of a member given as a Member, its id or its name."""
+        if isinstance(member, str):
+            names = self.member_names
+            if member in names:
+                return names[member]
+            listed = (f"; named members: {', '.join(map(repr, sorted(names)))}" if names
+                      else "; the structure has no named members")
+            raise ModelError(f"{what}: unknown member name {member!r}{listed}.")
+        mid = member if isinstance(member, (int, np.integer)) else getattr(member, "id", member)
+        if isinstance(mid, (bool, np.bool_)) or not isinstance(mid, (int, np.integer)):
+            raise TypeError(f"{what}: a member is given as a Member, its integer id or its name, "
+                            f"got {member!r}.")
+        if not 0 <= mid < len(self.members):
+            raise ModelError(f"Unknown member {member!r} for {what} (the structure has "
+                             f"{len(self.members)} members).")
+        return int(mid)
+
+    def member_label(self, member) -> str:
+        """``"mast"`` for a named member, ``"member 2"`` otherwise."""
+        m = self.members[self.member_id(member)]
+        name = getattr(m, "name", None)
+        return name if name is not None else f"member {m.id}"
 
 
 @dataclass(frozen=True, eq=False)
-class Model:
+class Model(Labels):
     """An immutable, arrays-only snapshot of a structure.
 
     Attributes
@@ -58,6 +140,16 @@ class Model:
         Distinct obstacles, in order of first use.
     contact_obstacle : ndarray of int, shape (n_contacts,)
         Index into ``obstacles`` of each contact.
+    units : Units
+        The system the structure's numbers are in (labels only).
+    named_nodes : tuple of (int, str) pairs
+        Nodes the user named, by id (see :meth:`node_label`, :attr:`node_names`).
+    nodal_loads : ndarray, shape (n_loads, 4)
+        Nodal loads as given, for drawing: node, component (0 fx, 1 fy, 2 mz),
+        value, constant (1.0) or reference (0.0). Follower loads are in ``followers``.
+    line_loads : tuple of (member, qx, qy, normal, tangential, constant)
+        Line loads as given, for drawing.
+    gravity : tuple (g, dx, dy, constant) or None
     """
 
     xy: np.ndarray
@@ -80,6 +172,12 @@ class Model:
     obstacles: tuple
     contact_obstacle: np.ndarray
     label: str = field(default="")
+    # defaults: a Model saved before units and names existed loads with SI and no names
+    units: Units = field(default=Units())
+    named_nodes: tuple = field(default=())
+    nodal_loads: np.ndarray = field(default_factory=lambda: np.zeros((0, 4)))
+    line_loads: tuple = field(default=())
+    gravity: tuple | None = field(default=None)
 
     def __post_init__(self) -> None:
         for value in vars(self).values():
@@ -151,6 +249,17 @@ class Model:
         """A Model is its own snapshot."""
         return self
 
+    # -- names ----------------------------------------------------------------------
+    @cached_property
+    def _name_maps(self) -> tuple:
+        return {name: i for i, name in self.named_nodes}, dict(self.named_nodes)
+
+    def _node_names(self) -> dict:
+        return self._name_maps[0]
+
+    def _names_of_nodes(self) -> dict:
+        return self._name_maps[1]
+
     # -- derived data, cached ---------------------------------------------------------
     @cached_property
     def assembly(self):
@@ -160,10 +269,13 @@ class Model:
 
     def __getstate__(self) -> dict:
         state = dict(vars(self))
-        state.pop("assembly", None)           # a cache, rebuilt on demand
+        state.pop("assembly", None)           # caches, rebuilt on demand
+        state.pop("_name_maps", None)
         return state
 
     def __setstate__(self, state: dict) -> None:
+        if "nodal_loads" not in state:        # saved before the drawing tables existed
+            state = {"nodal_loads": np.zeros((0, 4)), **state}
         for k, v in state.items():
             object.__setattr__(self, k, v)
         self.__post_init__()

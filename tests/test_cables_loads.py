@@ -38,7 +38,7 @@ def test_elastic_catenary_under_self_weight(rise):
     ref = elastic_catenary(100.0, rise, L0, STEEL_ROPE.density * STEEL_ROPE.A * 9.81,
                            STEEL_ROPE.EA)
     assert 0.08 < ref["sag"] / 100.0 < 0.12
-    R = path.reactions(0)
+    R = path.reaction_vector(0)
     H = -R[3 * a]                      # the left support pulls the cable to the left
     assert H == pytest.approx(ref["H"], rel=5e-3)
     assert R[3 * a + 1] == pytest.approx(ref["V"], rel=5e-3)
@@ -246,10 +246,10 @@ def test_dead_line_load_resultant_and_forces_table():
     s.fix(b, "uy")
     s.line_load(m, qy=-1e3)
     path = lr.trace(s, lr.by_load(1e-3), target_load_factor=1e-3)
-    R = path.reactions(-1)
+    R = path.reaction_vector(-1)
     assert R[3 * a + 1] == pytest.approx(0.5 * 8.0 * 1.0, rel=1e-6)
     table = path.forces_table(-1)
     # element 3 ends at mid-span; sagging moment positive, q·L²/8 (× λ)
-    assert table.loc[3, "M_2"] == pytest.approx(1e3 * 64 / 8 * 1e-3, rel=1e-4)
+    assert table.loc[3, "M_2 [N·m]"] == pytest.approx(1e3 * 64 / 8 * 1e-3, rel=1e-4)
     frame = path.to_dataframe(forces=True)
-    assert frame["max |M|"].iloc[-1] == pytest.approx(1.0 * 8.0, rel=1e-4)
+    assert frame["max |M| [N·m]"].iloc[-1] == pytest.approx(1.0 * 8.0, rel=1e-4)

@@ -41,8 +41,8 @@ def test_trace_lands_exactly_on_target_and_keeps_history():
     assert path.u.shape == (5, 3 * s.n_nodes)
     assert np.all(path.u[:, :3] == 0.0)                   # the clamp
     df = path.to_dataframe()
-    assert list(df["load_factor"]) == list(path.load_factor)
-    assert f"uy[{b}]" in df.columns
+    assert list(df["load factor"]) == list(path.load_factor)
+    assert f"uy of node {b} [m]" in df.columns
 
 
 def test_displacement_control_reaches_target_load_factor_exactly():

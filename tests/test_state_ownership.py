@@ -70,7 +70,7 @@ def test_pickle_round_trip_of_structure_path_and_running_stepper():
     path2 = pickle.loads(pickle.dumps(path))
     np.testing.assert_array_equal(path2.u, path.u)
     np.testing.assert_array_equal(path2.extra["yielded"], path.extra["yielded"])
-    np.testing.assert_array_equal(path2.reactions(-1), path.reactions(-1))
+    np.testing.assert_array_equal(path2.reaction_vector(-1), path.reaction_vector(-1))
     assert [e.kind for e in path2.events] == [e.kind for e in path.events]
     # a stepper pickled half-way goes on to the same end point as the original
     st = lr.by_load(0.1).stepper(s, target_load_factor=1.2)
@@ -86,14 +86,14 @@ def test_pickle_round_trip_of_structure_path_and_running_stepper():
 def test_editing_the_structure_after_tracing_leaves_the_path_unchanged():
     s, tip = yielding_cantilever_on_stop()
     path = lr.trace(s, lr.by_load(0.25), target_load_factor=1.0)
-    u, R, M = path.u.copy(), path.reactions(-1), path.member_forces(-1)["beam"]["M"].copy()
+    u, R, M = path.u.copy(), path.reaction_vector(-1), path.member_forces(-1)["beam"]["M"].copy()
     lines = path.shape(-1)["beam"].copy()
     extra = s.node(5.0, 5.0)                         # edits after the trace
     s.beam(tip, extra, lr.Section(E=E, A=1e-3, I=1e-6))
     s.load(tip, fx=1e6)
     s.fix(extra)
     np.testing.assert_array_equal(path.u, u)
-    np.testing.assert_array_equal(path.reactions(-1), R)
+    np.testing.assert_array_equal(path.reaction_vector(-1), R)
     np.testing.assert_array_equal(path.member_forces(-1)["beam"]["M"], M)
     np.testing.assert_array_equal(path.shape(-1)["beam"], lines)
     assert path.structure.n_nodes == len(u[0]) // 3 != s.n_nodes

@@ -83,7 +83,7 @@ def test_structures_and_paths_round_trip_bit_for_bit(tmp_path, case):
     for i in range(len(path)):
         for kind, lines in path.shape(i).items():
             np.testing.assert_array_equal(path2.shape(i)[kind], lines)
-        np.testing.assert_array_equal(path2.reactions(i), path.reactions(i))
+        np.testing.assert_array_equal(path2.reaction_vector(i), path.reaction_vector(i))
     # the loaded structure traces the same path
     again = lr.trace(s2, control, **options)
     np.testing.assert_array_equal(again.u, path.u)

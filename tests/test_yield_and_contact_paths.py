@@ -169,7 +169,7 @@ def test_pole_leans_on_a_round_stop_at_large_rotation():
     assert path.contact_forces[-1, 0] > 0
     # the stop's push balances the part of the load the pole does not carry:
     # reaction at the base + contact force + load = 0
-    R = path.reactions(-1)
+    R = path.reaction_vector(-1)
     n = d / np.hypot(*d)
     p = path.contact_forces[-1, 0]
     assert R[3 * a] + p * n[0] + 2.0e3 == pytest.approx(0.0, abs=1e-6 * 2.0e3)
@@ -316,4 +316,4 @@ def test_reactions_of_a_yielding_pole_at_every_point():
     assert path.yielded[-1].max() > 0
     for i in range(1, len(path)):
         moment = path.load_factor[i] * MP / L * (L + path.displacement(tip, "ux")[i])
-        assert abs(path.reactions(i)[2]) == pytest.approx(moment, rel=1e-6)
+        assert abs(path.reaction_vector(i)[2]) == pytest.approx(moment, rel=1e-6)

@@ -80,30 +80,35 @@ class by_displacement(StepControl):
 
     Parameters
     ----------
-    node : int
-        The node whose displacement is prescribed; its ``dof`` must be free.
-    dof : str
-        ``"ux"``, ``"uy"`` (lengths) or ``"rz"`` (radians).
+    node : int or str
+        The controlled node: its id or its name (resolved against the structure
+        when the trace starts); its ``dof`` must be free.
+    dof : {"ux", "uy", "rz"}
+        The controlled DOF: ``"ux"``, ``"uy"`` (lengths) or ``"rz"`` (radians).
     step : float
-        Increment of that displacement per point, in its units; negative to move
+        Increment of that DOF per point, in the structure's units; negative to move
         the other way. Not zero.
     min_step : float, optional
-        Smallest increment tried when a failed step is halved (default ``step/1024``).
+        Smallest increment tried when a failed step is halved (default ``|step|/1024``).
 
     A structure with no reference load, or a restrained ``dof``, is refused with a
     ModelError when the stepper starts.
     """
 
-    node: int
+    node: int | str
     dof: str
     step: float
     min_step: float | None = None
 
     def __post_init__(self) -> None:
-        if isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)):
-            raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer), "
-                            f"got {self.node!r}.")
-        if self.node < 0:
+        if isinstance(self.node, str):
+            if not self.node.strip():
+                raise ModelError(f"by_displacement: `node` must be a node id or a node's name, "
+                                 f"got {self.node!r}.")
+        elif isinstance(self.node, (bool, np.bool_)) or not isinstance(self.node, (int, np.integer)):
+            raise TypeError(f"by_displacement: `node` must be a node id (a non-negative integer) "
+                            f"or a node's name, got {self.node!r}.")
+        elif self.node < 0:
             raise ModelError(f"by_displacement: `node` must be a node id (a non-negative integer), "
                              f"got {self.node!r}.")
         if not isinstance(self.dof, str):

@@ -20,7 +20,8 @@ class DisplacementStepper(PathStepper):
     def __init__(self, structure, node: int, dof: str, step: float, **options) -> None:
         if is_real(step) and not step:
             raise ModelError(f"The displacement step must be non-zero, got {step!r}.")
-        node = checked_node(node, getattr(structure, "n_nodes", 0), "by_displacement")
+        node = (structure.node_id(node, "by_displacement") if hasattr(structure, "node_id")
+                else checked_node(node, getattr(structure, "n_nodes", 0), "by_displacement"))
         g = 3 * node + dof_index(dof)
         super().__init__(structure, step, **options)
         if self.slack_start:
