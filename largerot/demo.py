@@ -28,8 +28,8 @@ __all__ = ["lighting_pole", "guyed_mast", "leaning_pole", "run_demo", "run_mast_
 
 def lighting_pole(segments: int = 32, tip_load: float = 4.0e3):
     """The demo pole: returns ``(structure, base, top)``."""
-    s = Structure()
-    base, top = s.node(0.0, 0.0), s.node(0.0, 8.0)
+    s = Structure(name="Lighting pole, 8 m")
+    base, top = s.node(0.0, 0.0, name="base"), s.node(0.0, 8.0, name="top")
     tube = Section.tube(E=25e9, diameter=0.12, wall=0.006)
     s.beam(base, top, tube, segments=segments)
     s.fix(base)
@@ -45,9 +45,9 @@ def guyed_mast(segments: int = 12, pretension: float = 40e3, lateral_load: float
     ``pretension``; self-weight held constant; the reference load ``lateral_load``
     pushes the top toward the leeward anchor.
     """
-    s = Structure()
-    base, top = s.node(0.0, 0.0), s.node(0.0, 30.0)
-    windward, leeward = s.node(-15.0, 0.0), s.node(15.0, 0.0)
+    s = Structure(name="Guyed mast, 30 m")
+    base, top = s.node(0.0, 0.0, name="base"), s.node(0.0, 30.0, name="top")
+    windward, leeward = s.node(-15.0, 0.0, name="windward anchor"), s.node(15.0, 0.0, name="leeward anchor")
     tube = Section.tube(E=210e9, diameter=0.4, wall=0.012, density=7850.0, fy=355e6)
     rope = Section(E=160e9, A=4.0e-4)
     s.beam(base, top, tube, segments=segments)
@@ -91,8 +91,8 @@ def leaning_pole(segments: int = 40, lateral_load: float = 10e3):
     from .elements.contact import Line
     from .fibres import FibreSection
 
-    s = Structure()
-    base, top = s.node(0.0, 0.0), s.node(0.0, 10.0)
+    s = Structure(name="Steel pole leaning on a wall, 10 m")
+    base, top = s.node(0.0, 0.0, name="base"), s.node(0.0, 10.0, name="top")
     # hardening modulus 1 % of E: mild steel past yield (a round figure, invented)
     tube = FibreSection.tube(E=210e9, fy=355e6, diameter=0.2, wall=0.008, H=2.1e9, density=7850.0)
     pole = s.beam(base, top, tube, segments=segments)

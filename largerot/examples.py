@@ -94,8 +94,9 @@ def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4) 
     point in load, no snap-back at the apex.
     """
     a, h, EA = _positive("half_span", half_span), _positive("rise", rise), _positive("EA", EA)
-    s = Structure()
-    left, apex, right = s.node(-a, 0.0), s.node(0.0, h), s.node(a, 0.0)
+    s = Structure(name="Shallow two-bar truss")
+    left, apex, right = (s.node(-a, 0.0, name="left"), s.node(0.0, h, name="apex"),
+                         s.node(a, 0.0, name="right"))
     sec = Section(E=EA, A=1.0)
     s.bar(left, apex, sec)
     s.bar(apex, right, sec)
@@ -116,8 +117,9 @@ def two_piece_cable(pretension: float = 5e3, load: float = 20e3) -> Scenario:
     of two straight elastic pieces, :func:`largerot.closed_form.cable_joint`.
     """
     T0, P = _positive("pretension", pretension), _positive("load", load)
-    s = Structure()
-    a, joint, b = s.node(0.0, 0.0), s.node(12.0, 0.0), s.node(30.0, 0.0)
+    s = Structure(name="Pretensioned rope, 30 m")
+    a, joint, b = (s.node(0.0, 0.0, name="left"), s.node(12.0, 0.0, name="joint"),
+                   s.node(30.0, 0.0, name="right"))
     rope = Section(E=160e9, A=2e-4)
     s.cable(a, joint, rope, segments=4, pretension=T0)
     s.cable(joint, b, rope, segments=6, pretension=T0)
@@ -141,8 +143,8 @@ def inclined_cantilever(angle: float = 30.0, length: float = 4.0, load: float = 
     """
     L, ang = _positive("length", length), math.radians(checked_number("", "angle", angle))
     sec = Section.tube(E=210e9, diameter=0.1, wall=0.005)
-    s = Structure()
-    base, tip = s.node(0.0, 0.0), s.node(L * math.cos(ang), L * math.sin(ang))
+    s = Structure(name=f"Cantilever tube at {float(angle):g}°")
+    base, tip = s.node(0.0, 0.0, name="base"), s.node(L * math.cos(ang), L * math.sin(ang), name="tip")
     s.beam(base, tip, sec, segments=_segments(segments))
     s.fix(base)
     n = (-math.sin(ang), math.cos(ang))
@@ -174,9 +176,10 @@ def toggle_frame(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4,
     a, h, EA = _positive("half_span", half_span), _positive("rise", rise), _positive("EA", EA)
     k_g = checked_number("", "spring", spring, nonnegative=True)
     k_s, Lh = _positive("hanger", hanger), _positive("hanger_length", hanger_length)
-    s = Structure()
-    left, apex, right = s.node(-a, 0.0), s.node(0.0, h), s.node(a, 0.0)
-    load = s.node(0.0, h - Lh)
+    s = Structure(name="Toggle frame with a soft hanger")
+    left, apex, right = (s.node(-a, 0.0, name="left"), s.node(0.0, h, name="apex"),
+                         s.node(a, 0.0, name="right"))
+    load = s.node(0.0, h - Lh, name="load point")
     sec = Section(E=EA, A=1.0)
     s.bar(left, apex, sec)
     s.bar(apex, right, sec)
@@ -210,11 +213,13 @@ def _arch(rise, span, segments, support, width, depth, E, load, stop_share, kind
     P = _positive("load", load)
     R = (0.25 * span**2 + rise**2) / (2.0 * rise)
     half = math.asin(0.5 * span / R)
-    s = Structure()
+    s = Structure(name=f"{kind.capitalize()} {support} arch, span {span:g}, rise {rise:g}")
     ids = []
+    named = {0: "left", n // 2: "crown", n: "right"}
     for k in range(n + 1):
         t = -half + 2.0 * half * k / n
-        ids.append(s.node(R * math.sin(t) + 0.5 * span, R * math.cos(t) - (R - rise)))
+        ids.append(s.node(R * math.sin(t) + 0.5 * span, R * math.cos(t) - (R - rise),
+                          name=named.get(k)))
     for k in range(n):
         s.beam(ids[k], ids[k + 1], sec)
     dofs = ("ux", "uy") if support == "pinned" else ("ux", "uy", "rz")
@@ -283,8 +288,8 @@ def column(kind: str = "cantilever", length: float = 3.0, segments: int = 10,
     n = _segments(segments)
     sec = Section.tube(E=_positive("E", E), diameter=_positive("diameter", diameter),
                        wall=_positive("wall", wall))
-    s = Structure()
-    base, top = s.node(0.0, 0.0), s.node(0.0, L)
+    s = Structure(name=f"{'Cantilever' if kind == 'cantilever' else 'Pinned-pinned'} column, {L:g} m")
+    base, top = s.node(0.0, 0.0, name="base"), s.node(0.0, L, name="top")
     m = s.beam(base, top, sec, segments=n)
     if kind == "cantilever":
         s.fix(base)

@@ -204,6 +204,9 @@ class Structure(Labels):
         table columns, and set the default g of :meth:`gravity`. See
         :mod:`largerot.units` for what each system means for force, length,
         moment, stress, mass density, spring stiffness and line load.
+    name : str, optional
+        What the structure is ("Guyed mast, 30 m"): the heading of its figures and
+        exported paths (``path.model.label``).
 
     Nodes and members may be named (``s.node(0, 10, name="tip")``,
     ``s.beam(a, b, sec, name="mast")``); every method that takes a node id also
@@ -224,8 +227,11 @@ class Structure(Labels):
     #: what :func:`largerot.save` writes it as
     saved_kind = "structure"
 
-    def __init__(self, units: str | Units = "N-m") -> None:
+    def __init__(self, units: str | Units = "N-m", name: str | None = None) -> None:
         self.units = checked_units(units)
+        if name is not None and not isinstance(name, str):
+            raise ModelError(f"Structure name must be a string, got {name!r}.")
+        self.name = name or ""
         self._named: dict[str, int] = {}                         # node name -> id
         self._name_of: dict[int, str] = {}                       # node id -> name
         self._xy = _Rows(2, float)                               # node coordinates
@@ -598,7 +604,7 @@ class Structure(Labels):
             obstacles=tuple(contact_obstacles),
             contact_obstacle=np.array([contact_obstacles.index(o) for _, o in self._contacts],
                                       dtype=np.int64),
-            units=self.units, named_nodes=tuple(sorted(self._name_of.items())),
+            label=self.name, units=self.units, named_nodes=tuple(sorted(self._name_of.items())),
             nodal_loads=np.array([(n, d, v, float(c)) for (n, d, c), v in self._loads.items()],
                                  dtype=float).reshape(-1, 4),
             line_loads=tuple(self._line_loads), gravity=self._gravity)
@@ -643,7 +649,7 @@ class Structure(Labels):
 
     def __setstate__(self, state: dict) -> None:
         # a Structure saved before units and names existed: SI, nothing named
-        self.__dict__.update(units=Units(), _named={}, _name_of={})
+        self.__dict__.update(units=Units(), name="", _named={}, _name_of={})
         self.__dict__.update(state)
 
     def __deepcopy__(self, memo) -> "Structure":

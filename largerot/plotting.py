@@ -14,10 +14,11 @@ from matplotlib.collections import LineCollection
 from matplotlib.text import Text
 
 from .errors import checked_number
+from .model_figure import plot_model
 from .results import EquilibriumPath, member_lines
 from .model import DOFS, Structure
 
-__all__ = ["plot_shape", "plot_path", "plot_overview", "path_segments", "critical_xy",
+__all__ = ["plot_model", "plot_shape", "plot_path", "plot_overview", "path_segments", "critical_xy",
            "shape_path_figure", "displacement_scale", "structure_size", "label_of",
            "scale_note", "place_legend", "tidy", "finish_layout", "occupied_points"]
 
@@ -57,19 +58,25 @@ LABEL_OFFSETS = ((7, 4), (7, -4), (-7, 4), (-7, -4), (0, 9), (0, -9),
                  (30, 26), (30, -26), (-30, 26), (-30, -26))
 
 
-def label_of(structure, quantity: str, node: int | None = None) -> str:
+def label_of(structure, quantity: str, node: int | str | None = None) -> str:
     """The text of an axis or readout label: every figure's wording passes through here.
 
     ``quantity`` is ``"x"``/``"y"`` (a coordinate), ``"lam"`` (the load factor) or a
-    DOF name (``"ux"``, ``"uy"``, ``"rz"``) of ``node``.
+    DOF name (``"ux"``, ``"uy"``, ``"rz"``) of ``node``. Units and node names come from
+    the structure (a Structure or a path's Model); without one, none are written.
 
-    >>> label_of(None, "uy", 16), label_of(None, "lam")
-    ('uy of node 16', 'load factor λ')
+    >>> import largerot as lr
+    >>> s = lr.Structure(units="kN-m"); tip = s.node(0.0, 8.0, name="tip")
+    >>> label_of(s, "uy", "tip"), label_of(s, "x"), label_of(None, "uy", 16), label_of(s, "lam")
+    ('uy of tip [m]', 'x [m]', 'uy of node 16', 'load factor λ')
     """
     if quantity == "lam":
         return "load factor λ"
+    units = getattr(structure, "units", None)
     if quantity in ("x", "y"):
-        return quantity
+        return units.label(quantity, "length") if units is not None else quantity
+    if hasattr(structure, "dof_label"):
+        return structure.dof_label(node, quantity)
     return f"{quantity} of node {node}"
 
 
@@ -355,7 +362,7 @@ def path_segments(x: np.ndarray, lam: np.ndarray, stable: np.ndarray):
 
 def critical_xy(path: EquilibriumPath, node: int, dof: str) -> list:
     """``(x, λ, kind)`` of each critical point, x being the node's DOF there."""
-    g = 3 * int(node) + DOFS.index(dof)
+    g = 3 * path.structure.node_id(node) + DOFS.index(dof)
     x_all = path.displacement(node, dof)
     out = []
     for cp in path.critical_points:

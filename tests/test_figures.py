@@ -266,7 +266,15 @@ def test_html_export_is_titled_by_the_model_not_its_repr(mast, tmp_path):
     title = re.search(r"<title>(.*)</title>", text).group(1)
     heading = re.search(r"<h1>(.*)</h1>", text).group(1)
     assert title == heading and "EquilibriumPath(" not in text and "Model(" not in text
-    assert title.startswith("Equilibrium path of a structure of 15 nodes")
+    # the demo mast is named (Structure(name=...)): its name heads the page
+    assert title.startswith("Guyed mast, 30 m: equilibrium path (")
+    unnamed = lr.Structure()
+    a, b = unnamed.node(0.0, 0.0), unnamed.node(0.0, 1.0)
+    unnamed.beam(a, b, lr.Section(E=1e9, A=1e-3, I=1e-6))
+    unnamed.fix(a)
+    unnamed.load(b, fx=1.0)
+    p2 = lr.trace(unnamed, lr.by_load(0.5), target_load_factor=1.0)
+    assert export.default_title(p2).startswith("Equilibrium path of a structure of 2 nodes")
     export.export_animation(path, tmp_path / "b.html", frames=3, dpi=30, title="Guyed mast <30 m>")
     text = (tmp_path / "b.html").read_text()
     assert "<h1>Guyed mast &lt;30 m&gt;</h1>" in text

@@ -255,3 +255,35 @@ def test_plot_model_labels_do_not_overlap():
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
     assert "reference load (× λ)" in legend and "constant load" in legend
     assert plot_model(s.snapshot()).get_title() == ax.get_title()
+
+
+# -- names and units where the user reads them: figures, widgets, exports --------------
+def test_figure_axes_and_widget_readouts_carry_names_and_units():
+    import matplotlib
+    matplotlib.use("Agg")
+    import largerot.widgets as lw
+    from largerot.widgets import data
+    s = cantilever(named=True, units="kN-m")
+    tip = s.node_id("tip")
+    path = lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+    fig = lr.plotting.shape_path_figure(path, -1, "tip", "ux")
+    labels = [a.get_xlabel() for a in fig.axes] + [a.get_ylabel() for a in fig.axes]
+    assert "ux of tip [m]" in labels and "x [m]" in labels and "y [m]" in labels
+    ex = lw.explore(path, node="tip", dof="ux")          # a name where a node id goes
+    assert ex.curve_of == (tip, "ux") and ex.canvas.x_label == "ux of tip [m]"
+    last = data.readout_lines(path, tip, np.array([len(path) - 1]))[0]
+    assert "ux[tip] = " in last and " m " in last and "rz[tip] = " in last
+    assert "max |M| = " in last and "kN·m" in last
+    with pytest.raises(lr.ModelError, match="unknown node name 'top'"):
+        lw.explore(path, node="top", dof="ux")
+
+
+def test_exported_html_is_titled_with_the_structure_name(tmp_path):
+    s = cantilever(named=True)
+    s.name = "Lamp post, 8 m"
+    path = lr.trace(s, lr.by_load(0.5), target_load_factor=1.0)
+    out = lr.widgets.export_animation(path, tmp_path / "post.html", node="tip", dof="ux")
+    text = out.read_text() if hasattr(out, "read_text") else (tmp_path / "post.html").read_text()
+    assert "<title>Lamp post, 8 m: equilibrium path" in text
+    with pytest.raises(lr.ModelError, match="name must be a string"):
+        lr.Structure(name=3)

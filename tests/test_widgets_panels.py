@@ -135,7 +135,8 @@ def test_hover_data_names_every_node_with_its_displacements():
     ex = lr.widgets.explore(path, node=top, dof="ux")
     nodes = ex.canvas.hover_nodes
     assert [h["node"] for h in nodes] == list(range(s.n_nodes))
-    assert nodes[top]["label"] == f"node {top}" and nodes[top]["dofs"] == ["ux", "uy", "rz"]
+    assert nodes[top]["label"] == "top" and nodes[1 + top]["label"] == f"node {1 + top}"
+    assert nodes[top]["dofs"] == ["ux", "uy", "rz"]
     u = np.frombuffer(ex.canvas.node_u, np.float32).reshape(len(path), len(nodes), 3)
     assert np.allclose(u[:, top, 0], path.displacement(top, "ux"), rtol=1e-6, atol=1e-7)
 

@@ -12,7 +12,6 @@ The widgets draw; they compute no mechanics (that lives in the library).
 """
 import functools
 
-from ..errors import checked_node
 from ..export import export_animation, save_figure
 from ..model import dof_index
 from . import explorer as _explorer, live as _live
@@ -22,10 +21,10 @@ from .study import Study, study
 from .sweep_panel import SweepPanel, sweep_panel
 
 
-def _check_curve(n_nodes: int, node, dof, what: str) -> None:
-    """The curve's node and DOF, checked where they come in (TypeError / ModelError)."""
+def _check_curve(structure, node, dof, what: str) -> None:
+    """The curve's node (id or name) and DOF, checked where they come in (TypeError / ModelError)."""
     if node is not None:
-        checked_node(node, n_nodes, what)
+        structure.node_id(node, what)
     if dof is not None:
         dof_index(dof)
 
@@ -35,7 +34,7 @@ def explore(path, node=None, dof=None, **options):
     from ..results import EquilibriumPath
     if not isinstance(path, EquilibriumPath):
         raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
-    _check_curve(path.structure.n_nodes, node, dof, "explore")
+    _check_curve(path.structure, node, dof, "explore")
     return _explorer.explore(path, node, dof, **options)
 
 
@@ -43,7 +42,7 @@ def explore(path, node=None, dof=None, **options):
 def live(structure, control, **options):
     if not hasattr(structure, "snapshot"):
         raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
-    _check_curve(structure.n_nodes, options.get("node"), options.get("dof"), "live")
+    _check_curve(structure, options.get("node"), options.get("dof"), "live")
     return _live.live(structure, control, **options)
 
 

@@ -21,7 +21,7 @@ from ..plotting import obstacle_outlines
 from ..results import EquilibriumPath, member_lines
 
 __all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options",
-           "readout", "readout_table", "readout_lines", "readout_line", "format_value",
+           "readout", "readout_table", "readout_units", "readout_lines", "readout_line", "format_value",
            "dof_label", "dof_key", "member_force_table", "FORCE_NAMES", "FORCE_SIGNS",
            "symbols", "bounds", "hover_nodes", "node_displacements", "play_seconds"]
 
@@ -261,18 +261,20 @@ def member_force_table(path: EquilibriumPath, points: np.ndarray, name: str) -> 
 
 # -- text: every label and number the widgets write goes through these ------------------
 def dof_label(structure: Structure, node: int, dof: str) -> str:
-    """Long label of a node's displacement (axes, menus): ``"ux of node 3"``."""
-    return f"{dof} of node {int(node)}"
+    """Long label of a node's displacement (axes, menus): ``"ux of tip [m]"``,
+    ``"ux of node 3 [m]"`` (the structure's names and units)."""
+    return structure.dof_label(node, dof)
 
 
 def dof_key(structure: Structure, node: int, dof: str) -> str:
-    """Short label of a node's displacement (readout columns): ``"ux[3]"``."""
-    return f"{dof}[{int(node)}]"
+    """Short label of a node's displacement (readout columns): ``"ux[tip]"``, ``"ux[3]"``."""
+    name = structure.node_name(node)
+    return f"{dof}[{name if name is not None else int(node)}]"
 
 
 def node_label(structure: Structure, node: int) -> str:
-    """How a node is named in the hover readout: ``"node 3"``."""
-    return f"node {int(node)}"
+    """How a node is named in the hover readout: ``"tip"`` or ``"node 3"``."""
+    return structure.node_label(node)
 
 
 def format_value(v: float, digits: int = DIGITS) -> str:
@@ -304,7 +306,7 @@ def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = 
 
     Load factor, the chosen node's three DOFs and, when the path has member forces,
     max |M|, min N (the largest compression) and max N (the largest tension) over all
-    elements.
+    elements. :func:`readout_units` gives each column's unit.
     """
     if points is None:
         points = np.arange(len(path))
@@ -323,20 +325,31 @@ def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = 
     return {k: np.asarray(v, dtype=float) for k, v in cols.items()}
 
 
+def readout_units(path: EquilibriumPath, node: int) -> dict:
+    """The unit of each column of :func:`readout_table` (``""`` for λ)."""
+    s, u = path.structure, path.structure.units
+    out = {"λ": ""}
+    for d in DOFS:
+        out[dof_key(s, node, d)] = u.dof_unit(d)
+    out.update({"max |M|": u.moment, "min N": u.force, "max N": u.force})
+    return out
+
+
 def readout(path: EquilibriumPath, i: int, node: int) -> dict:
     """The readout at point ``i`` as ``label -> float`` (what the browser shows)."""
     t = readout_table(path, node, np.array([range(len(path))[i]]))
     return {k: float(v[0]) for k, v in t.items()}
 
 
-def readout_line(values: dict, point: int, last: int, stable: bool) -> str:
-    """One point's readout as the browser shows it.
+def readout_line(values: dict, point: int, last: int, stable: bool, units: dict | None = None) -> str:
+    """One point's readout as the browser shows it, each value with its unit.
 
-    >>> readout_line({"λ": 0.5, "max N": 23760.4}, 3, 10, True)
-    'point 3 of 10   λ = 0.5   max N = 2.376e4   stable'
+    >>> readout_line({"λ": 0.5, "max N": 23760.4}, 3, 10, True, {"max N": "N"})
+    'point 3 of 10   λ = 0.5   max N = 2.376e4 N   stable'
     """
+    units = units or {}
     parts = [f"point {int(point)} of {int(last)}"]
-    parts += [f"{k} = {format_value(v)}" for k, v in values.items()]
+    parts += [f"{k} = {format_value(v)} {units.get(k, '')}".rstrip() for k, v in values.items()]
     parts.append("stable" if stable else "unstable")
     return "   ".join(parts)
 
@@ -344,9 +357,10 @@ def readout_line(values: dict, point: int, last: int, stable: bool) -> str:
 def readout_lines(path: EquilibriumPath, node: int, points: np.ndarray) -> list:
     """The readout text of every frame (sent once; the browser picks the line)."""
     table = readout_table(path, node, points)
+    units = readout_units(path, node)
     last = int(points[-1]) if len(points) else 0
     stable = path.stable[points]
-    return [readout_line({k: v[j] for k, v in table.items()}, int(p), last, bool(stable[j]))
+    return [readout_line({k: v[j] for k, v in table.items()}, int(p), last, bool(stable[j]), units)
             for j, p in enumerate(points)]
 
 

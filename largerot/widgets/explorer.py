@@ -162,10 +162,11 @@ class Explorer(w.VBox):
         if node is None or dof is None:
             node, dof = default_curve(path) if self.path is None or \
                 self.path.structure is not s else self.curve_of
+        node = s.node_id(node, "explore")                  # a name stands for its node
         if dof not in DOFS:
             raise ValueError(f"`dof` must be one of {', '.join(DOFS)}, got {dof!r}.")
         if (node, dof) not in [v for _, v in options]:
-            options.append((f"{dof} of node {node}", (int(node), dof)))
+            options.append((data.dof_label(path.structure, node, dof), (int(node), dof)))
         old = self.index
         self.path = path
         self._points = data.frame_points(len(path), self.max_frames)
