@@ -47,7 +47,9 @@ Buckling: Haringx, not Engesser
     shear force in the section's plane, a shear angle c adds +P·c²/2 to the energy of
     a column under P, and eliminating c from EI·θ'² + κGA·c² − P·(θ − c)² + P·c²
     gives Haringx's; a corotational element with a *linear* local relation (shear
-    force normal to the chord, no such term) gives Engesser's (my derivation). Both
+    force normal to the chord, no such term) gives Engesser's (my derivation; measured
+    on a cantilever column with κGA = P_E, 64 elements: 1.23373 against Engesser's
+    1.23370, Haringx's 1.52494). Both
     are in use; Reissner's beam, which the large-deflection test compares against,
     is Haringx's, and for κGA ≫ P_E the two agree to O((P_E/κGA)²).
 
