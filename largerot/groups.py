@@ -39,12 +39,13 @@ from typing import NamedTuple
 import numpy as np
 
 from . import fibres, loads
-from .elements import bar, beam, contact, fibre_beam
+from .elements import bar, beam, contact, fibre_beam, timoshenko
 from .elements._chord import chord
 from .errors import ModelError
 from .snapshot import Model
 
-__all__ = ["Group", "GroupResult", "EventFunction", "BeamGroup", "FibreBeamGroup", "BarGroup",
+__all__ = ["Group", "GroupResult", "EventFunction", "BeamGroup", "FibreBeamGroup",
+           "TimoshenkoBeamGroup", "BarGroup",
            "SpringGroup", "ContactGroup", "LoadGroup", "build_groups", "build_loads",
            "consistent_axial"]
 
@@ -252,6 +253,41 @@ class BeamGroup(Group):
         q = _central(lambda x: beam.response(self.dX, self.L0, x, self.EA, self.EI, False).q,
                      ue, self.length_scale)
         return beam_stress_stiffness(self.dX, self.L0, q)
+
+    @property
+    def chords(self):
+        return _beam_chords(self)
+
+
+@dataclass(eq=False)
+class TimoshenkoBeamGroup(Group):
+    """Elastic corotational shear-flexible beams (:mod:`largerot.elements.timoshenko`),
+    for sections with a shear stiffness (``Section(..., G=, shear_factor=)``)."""
+
+    dX: np.ndarray = None
+    L0: np.ndarray = None
+    EA: np.ndarray = None
+    EI: np.ndarray = None
+    GAs: np.ndarray = None
+    length_scale: float = 1.0
+
+    def __post_init__(self) -> None:
+        self.table, self.name = "beam", "timoshenko beam"
+
+    def _response(self, ue, tangent):
+        return timoshenko.response(self.dX, self.L0, ue, self.EA, self.EI, self.GAs, tangent)
+
+    def evaluate(self, ue, state=None, tangent=True) -> GroupResult:
+        res = self._response(ue, tangent)
+        return GroupResult(res.f, res.K, None, {"q": res.q, "l": res.l})
+
+    def end_forces(self, ue, record):
+        res = self._response(ue, False)
+        return _beam_end_forces(res.q, res.l)
+
+    def stress_stiffness(self, ue):
+        q = _central(lambda x: self._response(x, False).q, ue, self.length_scale)
+        return timoshenko.stress_tangent(self.dX, self.L0, q, 12.0 * self.EI / (self.GAs * self.L0**2))
 
     @property
     def chords(self):
@@ -514,7 +550,11 @@ def build_groups(model: Model) -> list:
     fibre_rows = is_fibre[sec] if len(sec) else np.zeros(0, bool)
     EA = np.array([s.EA for s in secs])
     EI = np.array([s.EI for s in secs])
-    for rows in (np.flatnonzero(~fibre_rows), np.flatnonzero(fibre_rows)):
+    # shear-flexible elastic sections (a FibreSection has no G: its beams stay Euler–Bernoulli)
+    GAs = np.array([getattr(s, "GAs", None) or 0.0 for s in secs])
+    shear_rows = GAs[sec] > 0.0 if len(sec) else np.zeros(0, bool)
+    for rows in (np.flatnonzero(~fibre_rows & ~shear_rows), np.flatnonzero(fibre_rows),
+                 np.flatnonzero(shear_rows)):
         if not len(rows):
             continue
         n, sc = nodes[rows], sec[rows]
@@ -528,6 +568,9 @@ def build_groups(model: Model) -> list:
                                E=np.array([secs[i].E for i in sc]),
                                fy=np.array([secs[i].fy for i in sc]),
                                EA=EA[sc], EI=EI[sc], length_scale=scale)
+        elif shear_rows[rows[0]]:
+            g = TimoshenkoBeamGroup(dm, dX=dX, L0=L0, EA=EA[sc], EI=EI[sc], GAs=GAs[sc],
+                                    length_scale=scale)
         else:
             g = BeamGroup(dm, dX=dX, L0=L0, EA=EA[sc], EI=EI[sc], length_scale=scale)
         g.rows = rows

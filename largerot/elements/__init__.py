@@ -1,4 +1,4 @@
 """Element kernels: vectorised over all elements of a kind, elements first in every array."""
-from . import bar, beam
+from . import bar, beam, timoshenko
 
-__all__ = ["bar", "beam"]
+__all__ = ["bar", "beam", "timoshenko"]
