@@ -58,6 +58,10 @@ class Model:
         Distinct obstacles, in order of first use.
     contact_obstacle : ndarray of int, shape (n_contacts,)
         Index into ``obstacles`` of each contact.
+    beam_hinge : ndarray, shape (n_beam, 2), or None
+        Rotational stiffness joining each beam element's ends to their nodes: ∞ a
+        rigid joint, 0 a hinge, else a semi-rigid release. None when no member end
+        is released.
     """
 
     xy: np.ndarray
@@ -80,6 +84,7 @@ class Model:
     obstacles: tuple
     contact_obstacle: np.ndarray
     label: str = field(default="")
+    beam_hinge: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         for value in vars(self).values():
