@@ -298,3 +298,34 @@ def test_fixed_pinned_column_by_a_release_buckles_at_its_load():
     kL = brentq(lambda x: math.tan(x) - x, 4.0, 4.6)
     b = lr.buckling(s, modes=1)
     assert b.load_factors[0] == pytest.approx(kL**2 * SEC.EI / L**2, rel=1e-5)
+
+
+def test_released_beam_group_passes_the_protocol():
+    # As tests/test_state_ownership.py checks every group kind: finite-difference
+    # tangent (h = 1e-7: error ~1e-8 of K), forces rebuilt from the record, pickling,
+    # and end forces in balance with the nodal forces (M the nodal moments, no
+    # resultant; statics of the element, common practice, no source).
+    import pickle
+
+    from largerot.assembly import Assembly
+
+    from helpers import element_jacobian as jac
+    s, *_ = three_hinged_arch(segments=3)
+    s.beam(0, 2, SEC, hinge="both", hinge_stiffness=7e5)        # a semi-rigid tie
+    asm = Assembly.of(s)
+    g = asm.groups[-1]
+    assert g.bending is not None and len(g.rows) == 3
+    u = 0.01 * np.random.default_rng(5).standard_normal(asm.n_dof)
+    ue = u[g.dofmap]
+    res = g.evaluate(ue, None, True)
+    J = jac(lambda x: g.evaluate(x, None, False).f, ue, h=1e-7)
+    np.testing.assert_allclose(res.K, J, atol=1e-6 * np.abs(res.K).max())
+    np.testing.assert_allclose(g.forces(ue, g.record(res)), res.f, rtol=1e-12, atol=1e-12)
+    np.testing.assert_array_equal(pickle.loads(pickle.dumps(g)).evaluate(ue, None, False).f, res.f)
+    ev = asm.evaluate(u, asm.initial_states(), False)
+    ef = asm.element_forces(u, asm.record(ev))
+    M = ef["beam"]["M"][g.rows]
+    np.testing.assert_allclose(res.f[:, [2, 5]], np.stack([-M[:, 0], M[:, 1]], axis=1), atol=1e-9)
+    np.testing.assert_allclose(res.f[:, 0:2] + res.f[:, 3:5], 0.0, atol=1e-6)
+    assert M[0, 1] == 0.0 and M[1, 0] == 0.0             # the crown hinge of each half
+    assert M[2, 0] != 0.0 and M[2, 1] != 0.0             # the tie's springs carry moments
