@@ -232,9 +232,10 @@ class Assembly:
         n = self.model.n_nodes
         touched = np.zeros(self.n_dof, bool)
         for g in self.groups:
-            touched[g.dofmap.ravel()] = True
-        # A rotation no beam carries (bar-only or unconnected node) has no stiffness
-        # by nature: drop it rather than call it a mechanism.
+            touched[g.held()] = True
+        # A rotation no beam carries (bar-only or unconnected node, or one where every
+        # beam end is hinged) has no stiffness by nature: drop it rather than call it
+        # a mechanism.
         self.dropped = np.flatnonzero(~touched)
         constrained = ~touched
         self.fixed = self.model.fixed
@@ -257,7 +258,8 @@ class Assembly:
                 g = int(bad[0])
                 what = "moment" if g % 3 == 2 else "force"
                 raise ModelError(f"Node {g // 3} carries a {what} on {DOFS[g % 3]}, but no member "
-                                 f"gives that DOF stiffness (no beam or bar ends there).")
+                                 f"gives that DOF stiffness (no beam or bar ends there, "
+                                 "or every beam end there is hinged).")
         if n and self.n_free == 0:
             raise ModelError("Every DOF of the structure is restrained; there is nothing to solve.")
 

@@ -39,7 +39,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import fibres, loads
-from .elements import bar, beam, contact, fibre_beam, timoshenko
+from .elements import bar, beam, contact, fibre_beam, releases, timoshenko
 from .elements._chord import chord
 from .errors import ModelError
 from .snapshot import Model
@@ -128,6 +128,11 @@ class Group:
     def end_forces(self, ue: np.ndarray, record: dict) -> dict | None:
         return None
 
+    def held(self) -> np.ndarray:
+        """Global DOFs this group gives stiffness to: all of its DOF map unless a
+        group says otherwise (a beam's hinged end holds no rotation)."""
+        return self.dofmap.ravel()
+
     def stress_stiffness(self, ue: np.ndarray) -> np.ndarray:
         raise NotImplementedError(f"{type(self).__name__} has no geometric stiffness for linear buckling.")
 
@@ -174,7 +179,8 @@ def _central(fun, ue: np.ndarray, length_scale: float) -> np.ndarray:
 BUCKLING_PROBE = 1e-4
 
 
-def consistent_axial(N: np.ndarray, L: np.ndarray, c: np.ndarray, s: np.ndarray) -> np.ndarray:
+def consistent_axial(N: np.ndarray, L: np.ndarray, c: np.ndarray, s: np.ndarray,
+                     rotation_map: np.ndarray | None = None) -> np.ndarray:
     """Consistent geometric stiffness of cubic (Hermite) bending under axial force N.
 
     In local (v1, θ1, v2, θ2): N/(30L)·[[36, 3L, −36, 3L], [3L, 4L², −3L, −L²],
@@ -182,10 +188,25 @@ def consistent_axial(N: np.ndarray, L: np.ndarray, c: np.ndarray, s: np.ndarray)
     Structural Analysis*, from memory), rotated to global DOFs; shape (n_elements, 6, 6).
     Buckling loads then converge as h⁴ (10 elements: ~1e-5 for Euler columns), where
     the corotational tangent's chord-only term (the 36/30 → 1 lumping) converges as h².
+
+    With released ends, ``rotation_map`` A, shape (n_elements, 2, 2)
+    (:func:`largerot.elements.releases.rotation_map`), gives the element's own end
+    rotations φ = A·θ + (I − A)·1·β from the node rotations θ and the chord rotation
+    β = (v2 − v1)/L; the matrix above is taken on (v1, φ1, v2, φ2): the geometric
+    stiffness of the condensed element's own cubic.
     """
     kl = np.array([[36, 3, -36, 3], [3, 4, -3, -1], [-36, -3, 36, -3], [3, -1, -3, 4]], float)
     powers = np.array([[0, 1, 0, 1], [1, 2, 1, 2], [0, 1, 0, 1], [1, 2, 1, 2]])
     Kl = (N / (30 * L))[:, None, None] * kl * L[:, None, None] ** powers
+    if rotation_map is not None:
+        A = rotation_map
+        R = np.zeros((len(L), 4, 4))              # (v1, φ1, v2, φ2) from (v1, θ1, v2, θ2)
+        R[:, 0, 0] = R[:, 2, 2] = 1.0
+        R[:, 1::2, 1::2] = A
+        beta = (1.0 - A.sum(axis=2)) / L[:, None]   # (1 − Σ_j A_ij)/L, per row i
+        R[:, 1::2, 0] = -beta
+        R[:, 1::2, 2] = beta
+        Kl = np.einsum("eki,ekl,elj->eij", R, Kl, R)
     T = np.zeros((len(L), 4, 6))
     T[:, 0, 0], T[:, 0, 1] = -s, c
     T[:, 1, 2] = 1.0
@@ -194,17 +215,19 @@ def consistent_axial(N: np.ndarray, L: np.ndarray, c: np.ndarray, s: np.ndarray)
     return np.einsum("eki,ekl,elj->eij", T, Kl, T)
 
 
-def beam_stress_stiffness(dX: np.ndarray, L0: np.ndarray, q: np.ndarray) -> np.ndarray:
+def beam_stress_stiffness(dX: np.ndarray, L0: np.ndarray, q: np.ndarray,
+                          rotation_map: np.ndarray | None = None) -> np.ndarray:
     """Geometric stiffness of beams with local forces q = (N, M1, M2) at the undeformed geometry.
 
     Consistent axial part (:func:`consistent_axial`) plus the end-moment terms of the
-    corotational tangent; shape (n_elements, 6, 6).
+    corotational tangent; shape (n_elements, 6, 6). ``rotation_map``: released
+    ends (:func:`consistent_axial`).
     """
     c, s = dX[:, 0] / L0, dX[:, 1] / L0
     zero = np.zeros_like(c)
     r = np.stack([-c, -s, zero, c, s, zero], axis=1)
     z = np.stack([s, -c, zero, -s, c, zero], axis=1) / L0[:, None]
-    return (consistent_axial(q[:, 0], L0, c, s)
+    return (consistent_axial(q[:, 0], L0, c, s, rotation_map)
             + ((q[:, 1] + q[:, 2]) / L0)[:, None, None]
             * (np.einsum("ei,ej->eij", r, z) + np.einsum("ei,ej->eij", z, r)))
 
@@ -230,29 +253,45 @@ def _beam_chords(g) -> tuple:
 # -- groups ---------------------------------------------------------------------------
 @dataclass(eq=False)
 class BeamGroup(Group):
-    """Elastic corotational Euler–Bernoulli beams (:mod:`largerot.elements.beam`)."""
+    """Elastic corotational Euler–Bernoulli beams (:mod:`largerot.elements.beam`).
+
+    Elements with released ends form a group of their own whose ``bending``, shape
+    (n_elements, 2, 2), holds their bending stiffness per EI/L0
+    (:mod:`largerot.elements.releases`); None for rigidly connected elements.
+    """
 
     dX: np.ndarray = None
     L0: np.ndarray = None
     EA: np.ndarray = None
     EI: np.ndarray = None
     length_scale: float = 1.0
+    bending: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         self.table, self.name = "beam", "beam"
 
     def evaluate(self, ue, state=None, tangent=True) -> GroupResult:
-        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, tangent)
+        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, tangent, self.bending)
         return GroupResult(res.f, res.K, None, {"q": res.q, "l": res.l})
 
     def end_forces(self, ue, record):
-        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, False)
+        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, False, self.bending)
         return _beam_end_forces(res.q, res.l)
 
+    def held(self):
+        if self.bending is None:
+            return self.dofmap.ravel()
+        keep = np.ones(self.dofmap.shape, bool)
+        keep[:, 2] = self.bending[:, 0, 0] > 0.0         # a free hinge holds no rotation
+        keep[:, 5] = self.bending[:, 1, 1] > 0.0
+        return self.dofmap[keep]
+
     def stress_stiffness(self, ue):
-        q = _central(lambda x: beam.response(self.dX, self.L0, x, self.EA, self.EI, False).q,
+        bending = getattr(self, "bending", None)       # fibre beams have no releases
+        q = _central(lambda x: beam.response(self.dX, self.L0, x, self.EA, self.EI, False, bending).q,
                      ue, self.length_scale)
-        return beam_stress_stiffness(self.dX, self.L0, q)
+        A = None if bending is None else releases.rotation_map(bending)
+        return beam_stress_stiffness(self.dX, self.L0, q, A)
 
     @property
     def chords(self):
@@ -553,8 +592,19 @@ def build_groups(model: Model) -> list:
     # shear-flexible elastic sections (a FibreSection has no G: its beams stay Euler–Bernoulli)
     GAs = np.array([getattr(s, "GAs", None) or 0.0 for s in secs])
     shear_rows = GAs[sec] > 0.0 if len(sec) else np.zeros(0, bool)
-    for rows in (np.flatnonzero(~fibre_rows & ~shear_rows), np.flatnonzero(fibre_rows),
-                 np.flatnonzero(shear_rows)):
+    hinge = getattr(model, "beam_hinge", None)     # None: no released ends (older snapshots too)
+    released = (np.isfinite(hinge).any(axis=1) if hinge is not None
+                else np.zeros(len(sec), bool))
+    if (released & fibre_rows).any():
+        e = int(np.flatnonzero(released & fibre_rows)[0])
+        raise ModelError(f"Beam element {e} has a released end but a fibre section: end "
+                         "releases are supported on elastic sections only.")
+    if (released & shear_rows).any():
+        e = int(np.flatnonzero(released & shear_rows)[0])
+        raise ModelError(f"Beam element {e} has a released end but a shear-flexible section "
+                         "(G given): end releases are supported on Euler–Bernoulli beams only.")
+    for rows in (np.flatnonzero(~fibre_rows & ~shear_rows & ~released), np.flatnonzero(fibre_rows),
+                 np.flatnonzero(shear_rows), np.flatnonzero(released)):
         if not len(rows):
             continue
         n, sc = nodes[rows], sec[rows]
@@ -571,6 +621,9 @@ def build_groups(model: Model) -> list:
         elif shear_rows[rows[0]]:
             g = TimoshenkoBeamGroup(dm, dX=dX, L0=L0, EA=EA[sc], EI=EI[sc], GAs=GAs[sc],
                                     length_scale=scale)
+        elif released[rows[0]]:
+            g = BeamGroup(dm, dX=dX, L0=L0, EA=EA[sc], EI=EI[sc], length_scale=scale,
+                          bending=releases.bending_factors(hinge[rows], EI[sc], L0))
         else:
             g = BeamGroup(dm, dX=dX, L0=L0, EA=EA[sc], EI=EI[sc], length_scale=scale)
         g.rows = rows

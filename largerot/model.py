@@ -9,16 +9,17 @@ import copy
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
+from typing import NamedTuple
 
 import numpy as np
 
 from .errors import ModelError, checked_integer, checked_node, is_real, warn_input
-from .geometry import hanging_chain
+from .geometry import arc_points, hanging_chain
 from .sections import Section
 from .snapshot import Labels, Model
 from .units import Units, checked_units
 
-__all__ = ["Structure", "Member", "DOFS", "dof_index"]
+__all__ = ["Structure", "Member", "Polyline", "DOFS", "dof_index"]
 
 #: Names of the three degrees of freedom of every node, in storage order.
 DOFS = ("ux", "uy", "rz")
@@ -120,6 +121,18 @@ class _Rows:
     def array(self) -> np.ndarray:
         """A copy of the rows, shape (n, width) or (n,)."""
         return self._data[:self._n].copy()
+
+
+class Polyline(NamedTuple):
+    """What :meth:`Structure.polyline` built: one member per straight piece and the
+    corner nodes, first to last."""
+
+    members: list
+    nodes: list
+
+
+#: Which ends of a member ``hinge=`` releases: (start, end).
+HINGE_ENDS = {"start": (True, False), "end": (False, True), "both": (True, True)}
 
 
 #: Rows reserved when a Structure's tables are created (they double when full).
@@ -251,6 +264,7 @@ class Structure(Labels):
         self._gravity: tuple[float, float, float, bool] | None = None
         self._contacts: list[tuple[int, object]] = []
         self._member_ends: dict[tuple[str, int, int], int] = {}   # (table, a, b) -> member
+        self._hinges: dict[int, tuple[float, float]] = {}   # member -> end stiffness (∞: rigid)
         self._version = 0
 
     # -- building ------------------------------------------------------------
@@ -304,7 +318,7 @@ class Structure(Labels):
         return len(self._sections) - 1
 
     def _member(self, kind: str, a, b, section: Section, segments, *,
-                points=None, L0=None, name=None) -> Member:
+                points=None, L0=None, name=None, curved: bool = False) -> Member:
         mid = len(self.members)
         name = self._member_name(name, mid)
         a = self._check_node(a, f"Member {mid}")
@@ -318,7 +332,8 @@ class Structure(Labels):
         if length == 0.0:
             raise ModelError(f"Member {mid} (nodes {a}→{b}) has zero length.")
         table = "bar" if kind == "cable" else kind
-        key = (table, min(a, b), max(a, b))
+        # a curved member is not a duplicate of another between the same nodes
+        key = (table, min(a, b), max(a, b)) if not curved else None
         if key in self._member_ends:
             raise ModelError(f"Member {mid} (nodes {a}→{b}) duplicates member {self._member_ends[key]}.")
         if kind == "beam" and section.I <= 0.0:
@@ -337,7 +352,8 @@ class Structure(Labels):
         if table == "bar":
             self._bar_L0.extend(np.full(segments, np.nan if L0 is None else float(L0)))
             self._bar_cable.extend(np.full(segments, kind == "cable"))
-        self._member_ends[key] = mid
+        if key is not None:
+            self._member_ends[key] = mid
         member = Member(mid, kind, chain, np.arange(first, first + segments), section, name)
         self.members.append(member)
         self._changed()
@@ -352,15 +368,182 @@ class Structure(Labels):
         return name
 
     def beam(self, a: int | str, b: int | str, section: Section, segments: int = 1, *,
-             name: str | None = None) -> Member:
-        """Add a corotational Euler–Bernoulli beam from node ``a`` to ``b`` (ids or names).
+             name: str | None = None, hinge: str | None = None,
+             hinge_stiffness: float | None = None) -> Member:
+        """Add a corotational beam from node ``a`` to ``b`` (ids or names).
 
         The member is meshed into ``segments`` equal elements; the intermediate
-        nodes are created (unnamed) and listed in ``member.nodes``. ``name``
-        (unique among the members) labels it and stands for it in
-        :meth:`line_load`.
+        nodes are created (unnamed) and listed in ``member.nodes``. The beam is
+        Euler–Bernoulli, or shear-flexible (Timoshenko) when its section has a
+        shear stiffness (``Section(..., G=...)``).
+
+        Parameters
+        ----------
+        name : str, optional
+            Unique among the members: labels the member and stands for it in
+            :meth:`line_load`.
+        hinge : {"start", "end", "both"}, optional
+            Release the bending moment at that end of the member (at node ``a``,
+            ``b`` or both): the member is pinned to the node, which keeps its
+            rotation for the other members joined there. Only the member's element
+            at that end changes; its own end rotation is condensed out exactly
+            (:mod:`largerot.elements.releases`). A node where every beam end is
+            hinged and nothing else holds the rotation has its rotation dropped.
+        hinge_stiffness : float, optional
+            Moment per radian of a rotational spring at the released end(s) (a
+            semi-rigid joint); default 0, a free hinge.
         """
-        return self._member("beam", a, b, section, segments, name=name)
+        spec = self._hinge_spec(len(self.members), "beam", section, hinge, hinge_stiffness)
+        return self._hinged(self._member("beam", a, b, section, segments, name=name), spec)
+
+    def arc(self, a: int | str, b: int | str, section: Section, *, rise: float | None = None,
+            radius: float | None = None, segments: int = 16, shape: str = "circle",
+            kind: str = "beam", hinge: str | None = None,
+            hinge_stiffness: float | None = None, name: str | None = None) -> Member:
+        """Add a curved member from node ``a`` to ``b``, meshed into ``segments`` straight elements.
+
+        The intermediate nodes lie on the curve (:func:`largerot.geometry.arc_points`).
+
+        Parameters
+        ----------
+        rise : float
+            Height of the curve above the chord at mid-span, positive to the left of
+            a→b (the chord turned by +90°: an arch from left to right bulges up).
+            Above half the chord a circle is more than a semicircle.
+        radius : float
+            Instead of ``rise``, for a circle: the arc of that radius through a and
+            b, the shorter of the two, to the left of a→b for a positive radius.
+        segments : int
+            Elements along the member (default 16).
+        shape : {"circle", "parabola", "sine"}
+            A circular arc (nodes at equal angles), a parabola or a half sine wave
+            (nodes at equal steps along the chord).
+        kind : {"beam", "bar"}
+        hinge, hinge_stiffness
+            End releases, as in :meth:`beam`.
+        name : str, optional
+            The member's name, as in :meth:`beam`.
+        """
+        mid = len(self.members)
+        if kind not in ("beam", "bar"):
+            raise ModelError(f"Member {mid}: `kind` must be \"beam\" or \"bar\", got {kind!r}.")
+        spec = self._hinge_spec(mid, kind, section, hinge, hinge_stiffness)
+        a = self._check_node(a, f"Member {mid}")
+        b = self._check_node(b, f"Member {mid}")
+        segments = _segments(segments, mid)
+        if a == b:
+            raise ModelError(f"Member {mid} (nodes {a}→{b}) joins a node to itself.")
+        try:
+            pts = arc_points(self._xy[a], self._xy[b], segments, rise=rise, radius=radius, shape=shape)
+        except ModelError as exc:
+            raise ModelError(f"Member {mid} (nodes {a}→{b}): {exc}") from None
+        member = self._member(kind, a, b, section, segments, points=pts[1:-1], curved=True,
+                              name=name)
+        return self._hinged(member, spec)
+
+    def polyline(self, points, section: Section, segments: int = 1, *, kind: str = "beam",
+                 hinge: str | None = None, hinge_stiffness: float | None = None) -> Polyline:
+        """Add a chain of straight members through ``points``, one member per piece.
+
+        Parameters
+        ----------
+        points : sequence
+            At least two entries, each a node id or name (an existing node) or an (x, y)
+            pair (a new node there).
+        segments : int
+            Elements per piece.
+        kind : {"beam", "bar"}
+        hinge, hinge_stiffness
+            Releases at the chain's first node (``"start"``), last node (``"end"``)
+            or both, as in :meth:`beam`; the corners stay rigid.
+
+        Returns
+        -------
+        Polyline
+            ``members`` (one per piece) and the corner ``nodes``, first to last.
+        """
+        mid = len(self.members)
+        if kind not in ("beam", "bar"):
+            raise ModelError(f"Polyline from member {mid}: `kind` must be \"beam\" or \"bar\", got {kind!r}.")
+        spec = self._hinge_spec(mid, kind, section, hinge, hinge_stiffness)
+        _segments(segments, mid)
+        if isinstance(points, (str, bytes)) or not hasattr(points, "__len__") or len(points) < 2:
+            raise ModelError(f"Polyline from member {mid}: `points` must be a sequence of at least "
+                             f"two node ids or (x, y) pairs, got {points!r}.")
+        xy = []
+        for k, p in enumerate(points):        # check every entry before adding anything
+            if isinstance(p, (int, np.integer, str)) and not isinstance(p, (bool, np.bool_)):
+                xy.append(np.array(self._xy[self._check_node(p, f"Polyline point {k}")]))
+            elif not isinstance(p, str) and hasattr(p, "__len__") and len(p) == 2:
+                xy.append(np.array([_coordinate(f"Polyline point {k} x", p[0]),
+                                    _coordinate(f"Polyline point {k} y", p[1])]))
+            else:
+                raise TypeError(f"Polyline point {k} must be a node id or an (x, y) pair, got {p!r}.")
+        for k in range(len(xy) - 1):
+            if np.array_equal(xy[k], xy[k + 1]):
+                raise ModelError(f"Polyline points {k} and {k + 1} coincide at {xy[k].tolist()}: "
+                                 "a piece of zero length.")
+        nodes = [self._check_node(p, f"Polyline point {k}") if isinstance(p, (int, np.integer, str))
+                 else self.node(*xy[k]) for k, p in enumerate(points)]
+        members = [self._member(kind, nodes[k], nodes[k + 1], section, segments)
+                   for k in range(len(nodes) - 1)]
+        if spec is not None and len(members) == 1:
+            self._hinged(members[0], spec)
+        elif spec is not None:
+            if math.isfinite(spec[0]):
+                self._hinged(members[0], (spec[0], math.inf))
+            if math.isfinite(spec[1]):
+                self._hinged(members[-1], (math.inf, spec[1]))
+        return Polyline(members, nodes)
+
+    def _hinge_spec(self, mid: int, kind: str, section, hinge, hinge_stiffness):
+        """(stiffness at the start, at the end) of a release, ∞ where none; None without one."""
+        if hinge is None:
+            if hinge_stiffness is not None:
+                raise ModelError(f"Member {mid}: `hinge_stiffness` needs `hinge` "
+                                 "(\"start\", \"end\" or \"both\").")
+            return None
+        if not isinstance(hinge, str):
+            raise TypeError(f"Member {mid}: `hinge` must be \"start\", \"end\" or \"both\", got {hinge!r}.")
+        if hinge not in HINGE_ENDS:
+            raise ModelError(f"Member {mid}: `hinge` must be \"start\", \"end\" or \"both\", got {hinge!r}.")
+        if kind != "beam":
+            raise ModelError(f"Member {mid}: `hinge` releases a beam's end moment; a {kind} "
+                             "carries no moment (its ends are pinned already).")
+        from .fibres import FibreSection     # a beam may yield: its section has fibres
+        if isinstance(section, FibreSection):
+            raise ModelError(f"Member {mid}: end releases (`hinge`) are supported on elastic "
+                             "sections (largerot.Section) only, not on a FibreSection.")
+        k = 0.0
+        if hinge_stiffness is not None:
+            k = _finite(f"Member {mid} hinge_stiffness", hinge_stiffness)
+            if k < 0.0:
+                raise ModelError(f"Member {mid}: `hinge_stiffness` must be non-negative, got {hinge_stiffness!r}.")
+        start, end = HINGE_ENDS[hinge]
+        return (k if start else math.inf, k if end else math.inf)
+
+    def _hinged(self, member: Member, spec) -> Member:
+        if spec is not None:
+            self.__dict__.setdefault("_hinges", {})[member.id] = tuple(spec)
+            self._changed()
+        return member
+
+    def hinges(self) -> dict:
+        """Released member ends: {member id: (stiffness at start, at end)}; ∞ where the
+        end is rigid, 0 at a free hinge."""
+        return dict(self.__dict__.get("_hinges", {}))
+
+    def _beam_hinge(self, n_beam: int):
+        """Per beam element, the stiffness joining each end to its node; None without releases."""
+        hinges = self.__dict__.get("_hinges", {})
+        if not hinges:
+            return None
+        out = np.full((n_beam, 2), math.inf)
+        for mid, (k_start, k_end) in hinges.items():
+            e = self.members[mid].elements
+            out[e[0], 0] = k_start
+            out[e[-1], 1] = k_end
+        return out
 
     def bar(self, a: int | str, b: int | str, section: Section, segments: int = 1, *,
             name: str | None = None) -> Member:
@@ -607,7 +790,8 @@ class Structure(Labels):
             label=self.name, units=self.units, named_nodes=tuple(sorted(self._name_of.items())),
             nodal_loads=np.array([(n, d, v, float(c)) for (n, d, c), v in self._loads.items()],
                                  dtype=float).reshape(-1, 4),
-            line_loads=tuple(self._line_loads), gravity=self._gravity)
+            line_loads=tuple(self._line_loads), gravity=self._gravity,
+            beam_hinge=self._beam_hinge(len(tables["beam"])))
 
     def _warn_fixed_loads(self) -> None:
         """An InputWarning for nodal loads on restrained DOFs: the support takes them."""

@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import ModelError, checked_integer
-from .elements import beam as beam_kernel
+from .elements import beam as beam_kernel, releases
 from .model import DOFS, dof_index
 from .snapshot import Model
 
@@ -456,10 +456,21 @@ def member_lines(structure, u: np.ndarray, n_sub: int = 9) -> dict:
     if len(nodes):
         ue = u[np.concatenate([3 * nodes[:, [0]] + [0, 1, 2], 3 * nodes[:, [1]] + [0, 1, 2]], axis=1)]
         X1 = xy[nodes[:, 0]]
-        out["beam"] = beam_kernel.curve(X1, xy[nodes[:, 1]] - X1, ue, n_sub)
+        out["beam"] = beam_kernel.curve(X1, xy[nodes[:, 1]] - X1, ue, n_sub,
+                                        _own_rotations(structure.snapshot(), xy, nodes))
     else:
         out["beam"] = np.zeros((0, n_sub, 2))
     nodes, _ = structure.element_table("bar")
     pos = xy + u.reshape(-1, 3)[:, :2]
     out["bar"] = pos[nodes] if len(nodes) else np.zeros((0, 2, 2))
     return out
+
+
+def _own_rotations(model, xy: np.ndarray, nodes: np.ndarray):
+    """Released beams' own end rotations from their nodes', shape (n_beam, 2, 2), or None."""
+    hinge = getattr(model, "beam_hinge", None)
+    if hinge is None:
+        return None
+    L0 = np.hypot(*(xy[nodes[:, 1]] - xy[nodes[:, 0]]).T)
+    EI = np.array([model.sections[k].EI for k in model.beam_sections], dtype=float)
+    return releases.rotation_map(releases.bending_factors(hinge, EI, L0))

@@ -150,6 +150,10 @@ class Model(Labels):
     line_loads : tuple of (member, qx, qy, normal, tangential, constant)
         Line loads as given, for drawing.
     gravity : tuple (g, dx, dy, constant) or None
+    beam_hinge : ndarray, shape (n_beam, 2), or None
+        Rotational stiffness joining each beam element's ends to their nodes: ∞ a
+        rigid joint, 0 a hinge, else a semi-rigid release. None when no member end
+        is released.
     """
 
     xy: np.ndarray
@@ -178,6 +182,7 @@ class Model(Labels):
     nodal_loads: np.ndarray = field(default_factory=lambda: np.zeros((0, 4)))
     line_loads: tuple = field(default=())
     gravity: tuple | None = field(default=None)
+    beam_hinge: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         for value in vars(self).values():

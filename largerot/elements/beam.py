@@ -49,7 +49,7 @@ def local_rotations(dX: np.ndarray, u: np.ndarray, c: np.ndarray, s: np.ndarray)
 
 
 def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
-             EI: np.ndarray, tangent: bool = True) -> BeamResponse:
+             EI: np.ndarray, tangent: bool = True, bending: np.ndarray | None = None) -> BeamResponse:
     """Internal forces and consistent tangent of corotational beams.
 
     Parameters
@@ -64,17 +64,36 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
         Axial and bending stiffness.
     tangent : bool
         Also compute the tangent.
+    bending : ndarray, shape (n_elements, 2, 2), optional
+        ∂(M1, M2)/∂(θ1, θ2) per EI/L0 of elements with released ends
+        (:func:`largerot.elements.releases.bending_factors`); default the rigidly
+        connected [[4, 2], [2, 4]].
     """
     l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
     t1, t2 = local_rotations(dX, u, c, s)
     ka, kb = EA / L0, EI / L0
     q = np.empty((len(l), 3))
     q[:, 0] = ka * stretch
+    if bending is not None:
+        return _released(q, ka, kb[:, None, None] * bending, t1, t2, c, s, l, tangent)
     q[:, 1] = kb * (4.0 * t1 + 2.0 * t2)
     q[:, 2] = kb * (2.0 * t1 + 4.0 * t2)
     k = None
     if tangent:
         k = kb[:, None, None] * _BENDING
+        k[:, 0, 0] = ka
+    f, K = corotate(c, s, l, q, k)
+    return BeamResponse(q, f, K, l)
+
+
+def _released(q, ka, kB, t1, t2, c, s, l, tangent) -> BeamResponse:
+    """The rest of :func:`response` for a bending stiffness kB, shape (n_elements, 2, 2)."""
+    q[:, 1] = kB[:, 0, 0] * t1 + kB[:, 0, 1] * t2
+    q[:, 2] = kB[:, 1, 0] * t1 + kB[:, 1, 1] * t2
+    k = None
+    if tangent:
+        k = np.zeros((len(l), 3, 3))
+        k[:, 1:, 1:] = kB
         k[:, 0, 0] = ka
     f, K = corotate(c, s, l, q, k)
     return BeamResponse(q, f, K, l)
@@ -122,8 +141,13 @@ def corotate(c, s, l, q, k=None):
     return f, np.matmul(C.transpose(0, 2, 1), H @ C)
 
 
-def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9) -> np.ndarray:
+def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9,
+          rotation_map: np.ndarray | None = None) -> np.ndarray:
     """Deflected centre line of each element from its cubic shape functions.
+
+    ``rotation_map``, shape (n_elements, 2, 2), turns the node rotations relative to
+    the chord into the element's own end rotations at released ends
+    (:func:`largerot.elements.releases.rotation_map`); default the identity.
 
     Returns
     -------
@@ -133,6 +157,9 @@ def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9) -> n
     L0 = np.hypot(dX[:, 0], dX[:, 1])
     l, _, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
     t1, t2 = local_rotations(dX, u, c, s)
+    if rotation_map is not None:
+        A = rotation_map
+        t1, t2 = A[:, 0, 0] * t1 + A[:, 0, 1] * t2, A[:, 1, 0] * t1 + A[:, 1, 1] * t2
     xi = np.linspace(0.0, 1.0, n_points)[None, :]
     w = l[:, None] * (t1[:, None] * xi * (1 - xi) ** 2 - t2[:, None] * xi**2 * (1 - xi))
     along = l[:, None] * xi
