@@ -189,12 +189,20 @@ class Evaluation:
         Internal force level sqrt(Σ|f_e|²), the yardstick of the residual test.
     results : list of GroupResult
         Per group, in the assembly's group order.
+    Ku_ref : ndarray, shape (n_dof,), or None
+        The tangent times the imposed displacements per unit λ, K·ū_ref (all rows;
+        its free rows are K_fp·ū_ref), when the model has scaled imposed
+        displacements and the tangent was computed; ∂r/∂λ = F_ref − K_fp·ū_ref.
+
+    At an inclined roller the node's ``ux``/``uy`` rows of ``f``, ``K`` and
+    ``Ku_ref`` hold the components along and normal to the rolling direction.
     """
 
     f: np.ndarray
     K: sp.csc_matrix | None
     scale: float
     results: list
+    Ku_ref: np.ndarray | None = None
 
     def states(self) -> list:
         """The trial history of every group (None for groups without one)."""
@@ -240,6 +248,7 @@ class Assembly:
         constrained = ~touched
         self.fixed = self.model.fixed
         constrained[self.fixed] = True
+        self._classify_imposed(constrained)
         self.free = np.flatnonzero(~constrained)
         self.n_free = len(self.free)
         self.free_index = np.full(self.n_dof, -1, dtype=np.int64)
@@ -263,12 +272,109 @@ class Assembly:
         if n and self.n_free == 0:
             raise ModelError("Every DOF of the structure is restrained; there is nothing to solve.")
 
+    def _classify_imposed(self, constrained: np.ndarray) -> None:
+        """Imposed DOFs and inclined rollers' normal DOFs are not free."""
+        m = self.model
+        self.prescribed = m.imposed
+        bad = np.intersect1d(self.prescribed, self.dropped)
+        if len(bad):
+            g = int(bad[0])
+            raise ModelError(f"Node {g // 3} has an imposed {DOFS[g % 3]}, but no member gives "
+                             "that DOF stiffness (no beam or bar ends there).")
+        constrained[self.prescribed] = True
+        self.U_ref = np.zeros(self.n_dof)
+        self.U_ref[self.prescribed] = m.imposed_ref
+        self.inclined_nodes = m.inclined_nodes
+        self.inclined_direction = m.inclined_direction
+        constrained[3 * self.inclined_nodes + 1] = True      # the normal translation
+        # direction (c, s) of each node's roller, (1, 0) elsewhere, for the rotations
+        self._roller = np.zeros(m.n_nodes, bool)
+        self._roller[self.inclined_nodes] = True
+        dirs = np.tile([1.0, 0.0], (m.n_nodes, 1))
+        dirs[self.inclined_nodes] = self.inclined_direction
+        self._roller_dir = dirs
+
+    @property
+    def has_prescribed(self) -> bool:
+        """True when imposed displacements are scaled by λ (∂r/∂λ depends on the state)."""
+        return bool(self.model.imposed_ref.any())
+
     def _build_pattern(self) -> None:
         owners = [*self.groups, *self.load_groups]
         self.indptr, self.indices, self.positions = sparse_pattern(
             [g.dofmap for g in owners], self.free_index)
         self.nnz = len(self.indices)
         self._load_positions = self.positions[len(self.groups):]
+        # per group: elements that an imposed motion or an inclined roller touches
+        # (empty, and no cost, for models without them)
+        self._imposed_sel = [self._imposed_elements(g) for g in owners]
+        self._rotations = [self._roller_rotations(g, pos) for g, pos in zip(owners, self.positions)]
+
+    def _imposed_elements(self, g):
+        """(elements, ū_ref of their DOFs) for the elements of ``g`` an imposed motion moves."""
+        if not self.has_prescribed:
+            return None
+        ue = self.U_ref[g.dofmap]
+        sel = np.flatnonzero(ue.any(axis=1))
+        return (sel, ue[sel]) if len(sel) else None
+
+    def _roller_rotations(self, g, pos):
+        """(elements, R, positions) turning element arrays of ``g`` into the rollers' frames.
+
+        R, shape (n_sel, n_dof, n_dof), is the identity but for the 2×2 blocks
+        [[c, −s], [s, c]] on the (ux, uy) pairs of roller nodes: u_global = R·u_frame,
+        so K_frame = Rᵀ·K·R and f_frame = Rᵀ·f.
+        """
+        if not len(self.inclined_nodes):
+            return None
+        dm = g.dofmap
+        node, dof = dm // 3, dm % 3
+        on = self._roller[node] & (dof < 2)
+        sel = np.flatnonzero(on.any(axis=1))
+        if not len(sel):
+            return None
+        n_el, n_dof = dm.shape
+        R = np.tile(np.eye(n_dof), (len(sel), 1, 1))
+        paired = np.zeros((len(sel), n_dof), bool)
+        for i in range(n_dof):
+            for j in range(n_dof):
+                pair = on[sel, i] & (dm[sel, j] == dm[sel, i] + 1) & (dof[sel, i] == 0)
+                if pair.any():
+                    e = np.flatnonzero(pair)
+                    c, s_ = self._roller_dir[node[sel[e], i]].T
+                    R[e, i, i], R[e, i, j], R[e, j, i], R[e, j, j] = c, -s_, s_, c
+                    paired[e, i] = paired[e, j] = True
+        lone = on[sel] & ~paired
+        if lone.any():
+            e, i = np.argwhere(lone)[0]
+            raise ModelError(f"Node {int(node[sel[e], i])} is on an inclined roller, but a "
+                             f"{getattr(g, 'name', 'group') or type(g).__name__} element there acts "
+                             f"on its {DOFS[dof[sel[e], i]]} alone; that is not supported.")
+        pos_sel = pos.reshape(n_el, n_dof * n_dof)[sel].ravel()
+        return sel, R, pos_sel
+
+    def _rotate_into(self, data: np.ndarray, k: int, Ke: np.ndarray, weight: float = 1.0) -> None:
+        """Turn the scattered element tangents of owner ``k`` at roller nodes into the
+        rollers' frames: add (Rᵀ·K·R − K) of those elements to ``data``."""
+        rot = self._rotations[k]
+        if rot is None:
+            return
+        sel, R, pos = rot
+        Ks = Ke[sel]
+        diff = np.einsum("eki,ekl,elj->eij", R, Ks, R) - Ks
+        data += np.bincount(pos, weights=weight * diff.ravel(), minlength=self.nnz + 1)
+
+    def framed(self, v: np.ndarray) -> np.ndarray:
+        """A full force vector (x, y) with each roller node's ux, uy rows turned into
+        (along, normal) components, shape (n_dof,); ``v`` itself without rollers."""
+        if not len(self.inclined_nodes):
+            return v
+        v = np.array(v, dtype=float)
+        gx = 3 * self.inclined_nodes
+        c, s_ = self.inclined_direction.T
+        fx, fy = v[gx].copy(), v[gx + 1].copy()
+        v[gx], v[gx + 1] = c * fx + s_ * fy, -s_ * fx + c * fy
+        return v
 
     # -- history ------------------------------------------------------------------
     def initial_states(self) -> list:
@@ -327,7 +433,8 @@ class Assembly:
         f = data = None
         scale2 = 0.0
         results = []
-        for g, pos, st in zip(self.groups, self.positions, states):
+        Ku = np.zeros(self.n_dof) if tangent and self.has_prescribed else None
+        for k, (g, pos, st) in enumerate(zip(self.groups, self.positions, states)):
             res = g.evaluate(u[g.dofmap], st, tangent)
             fg = np.bincount(g.dofmap.ravel(), weights=res.f.ravel(), minlength=self.n_dof)
             f = fg if f is None else np.add(f, fg, out=f)
@@ -335,15 +442,27 @@ class Assembly:
             if tangent:
                 dg = np.bincount(pos, weights=res.K.ravel(), minlength=self.nnz + 1)
                 data = dg if data is None else np.add(data, dg, out=data)
+                self._rotate_into(data, k, res.K)
+                if Ku is not None:
+                    self._add_imposed(Ku, k, g, res.K)
             results.append(res)
         if f is None:
             f = np.zeros(self.n_dof)
         if tangent and data is None:
             data = np.zeros(self.nnz + 1)
         if tangent and lam is not None:
-            self._subtract_load_stiffness(data, u, lam, const_factor)
+            self._subtract_load_stiffness(data, u, lam, const_factor, Ku)
         K = self._matrix(data) if tangent else None
-        return Evaluation(f, K, float(np.sqrt(scale2)), results)
+        return Evaluation(self.framed(f), K, float(np.sqrt(scale2)), results,
+                          None if Ku is None else self.framed(Ku))
+
+    def _add_imposed(self, Ku: np.ndarray, k: int, g, Ke: np.ndarray, weight: float = 1.0) -> None:
+        """Add weight·K_e·ū_e of the elements of owner ``k`` that the imposed motion moves."""
+        sel = self._imposed_sel[k]
+        if sel is not None:
+            e, ue = sel
+            ke = np.einsum("eij,ej->ei", Ke[e], ue)
+            Ku += np.bincount(g.dofmap[e].ravel(), weights=weight * ke.ravel(), minlength=self.n_dof)
 
     def record(self, ev: Evaluation) -> dict:
         """Per-point data kept along a path, from an evaluation at a converged point.
@@ -423,12 +542,13 @@ class Assembly:
         Raises ModelError naming the group that has none.
         """
         data = np.zeros(self.nnz + 1)
-        for g, pos in zip(self.groups, self.positions):
+        for k, (g, pos) in enumerate(zip(self.groups, self.positions)):
             try:
                 Kg = g.stress_stiffness(u[g.dofmap])
             except NotImplementedError as exc:
                 raise ModelError(f"Linear buckling cannot handle these elements: {exc}") from None
             data += np.bincount(pos, weights=Kg.ravel(), minlength=self.nnz + 1)
+            self._rotate_into(data, k, Kg)
         return self._matrix(data)
 
     def load_stiffness(self, u: np.ndarray, lam: float, const_factor: float) -> sp.csc_matrix:
@@ -437,18 +557,26 @@ class Assembly:
         self._subtract_load_stiffness(data, u, lam, const_factor)
         return self._matrix(data)
 
-    def _subtract_load_stiffness(self, data, u, lam, const_factor) -> None:
-        for lg, pos in zip(self.load_groups, self._load_positions):
+    def _subtract_load_stiffness(self, data, u, lam, const_factor, Ku=None) -> None:
+        n = len(self.groups)
+        for k, (lg, pos) in enumerate(zip(self.load_groups, self._load_positions)):
             w = const_factor if lg.constant else lam
             if w:
                 _, dfe = lg.load(u[lg.dofmap])
                 data -= np.bincount(pos, weights=w * dfe.ravel(), minlength=self.nnz + 1)
+                self._rotate_into(data, n + k, dfe, -w)
+                if Ku is not None:
+                    self._add_imposed(Ku, n + k, lg, dfe, -w)
 
     def expand(self, u_free: np.ndarray) -> np.ndarray:
-        """Full displacement vector from its free part (constrained DOFs zero)."""
-        u = np.zeros(self.n_dof)
-        u[self.free] = u_free
-        return u
+        """Full displacement vector (x, y) from its free part; restrained and imposed
+        DOFs zero (for modes and increments; :meth:`full` for a state)."""
+        return self.model.expanded(self.free, u_free)
+
+    def full(self, u_free: np.ndarray, lam: float, const_factor: float = 1.0) -> np.ndarray:
+        """Full displacement vector (x, y) of the state (u_free, λ), shape (n_dof,):
+        imposed DOFs at λ·ū_ref + const_factor·ū_const."""
+        return self.model.expanded(self.free, u_free, lam, const_factor)
 
     @classmethod
     def of(cls, structure) -> "Assembly":

@@ -169,8 +169,12 @@ def buckling(structure: Structure, modes: int = 3) -> Buckling:
     if not hasattr(structure, "snapshot"):
         raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
     asm = structure.snapshot().assembly        # stateless: the virgin structure, always
+    if len(asm.prescribed) and (asm.model.imposed_ref.any() or asm.model.imposed_const.any()):
+        raise ModelError("Linear buckling scales loads only; the structure has imposed "
+                         "displacements. Trace its path instead (lr.trace).")
     rest = np.zeros(asm.n_dof)
     F_ref, F_const = asm.external(rest)                      # follower loads as at rest
+    F_ref, F_const = asm.framed(F_ref), asm.framed(F_const)  # inclined rollers' frames
     F = F_ref[asm.free]
     if not F.any():
         raise ModelError("Linear buckling needs a reference load; the structure has none.")

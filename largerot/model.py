@@ -265,6 +265,10 @@ class Structure(Labels):
         self._contacts: list[tuple[int, object]] = []
         self._member_ends: dict[tuple[str, int, int], int] = {}   # (table, a, b) -> member
         self._hinges: dict[int, tuple[float, float]] = {}   # member -> end stiffness (∞: rigid)
+        # imposed displacements: (node, dof, constant) -> value; inclined rollers:
+        # node -> unit rolling direction (dx, dy)
+        self._imposed: dict[tuple[int, int, bool], float] = {}
+        self._inclined: dict[int, tuple[float, float]] = {}
         self._version = 0
 
     # -- building ------------------------------------------------------------
@@ -701,7 +705,90 @@ class Structure(Labels):
         """
         node = self._check_node(node, "fix")
         for d in dofs or DOFS:
-            self._fixed.add((node, dof_index(d)))
+            k = dof_index(d)
+            self._check_unclaimed(node, k, "fixed")
+            self._fixed.add((node, k))
+        self._changed()
+
+    def _check_unclaimed(self, node: int, k: int, what: str) -> None:
+        """A DOF is free, fixed, imposed or on an inclined roller: one of them at a time."""
+        imposed = getattr(self, "_imposed", {})
+        inclined = getattr(self, "_inclined", {})
+        if what != "imposed" and any((node, k, c) in imposed for c in (False, True)):
+            raise ModelError(f"Node {node} {DOFS[k]} has an imposed displacement; it cannot also be {what}.")
+        if what != "fixed" and (node, k) in self._fixed:
+            raise ModelError(f"Node {node} {DOFS[k]} is fixed; it cannot also be {what}.")
+        if k < 2 and node in inclined:
+            raise ModelError(f"Node {node} is on an inclined roller: its translation {DOFS[k]} "
+                             f"cannot also be {what} (fix its rotation only, or remove the roller).")
+
+    def impose(self, node: int, dof: str, value: float, constant: bool = False) -> None:
+        """Prescribe a displacement or rotation of one DOF (a settlement, a driven support).
+
+        The DOF is then not free: it moves by ``λ·value`` along the path, scaled by the
+        load factor like a reference load, or by ``value`` from the start when
+        ``constant`` (like a constant load). A DOF may carry both parts; imposing the
+        same part twice adds up. The force the structure needs there is reported by
+        ``path.reactions(i)`` like a support's. An imposed ``value`` of 0 is a support.
+
+        Parameters
+        ----------
+        node : int
+        dof : str
+            ``"ux"``, ``"uy"`` (length) or ``"rz"`` (radians, counter-clockwise).
+        value : float
+        constant : bool
+
+        Examples
+        --------
+        >>> import largerot as lr
+        >>> s = lr.Structure()
+        >>> a, b = s.node(0.0, 0.0), s.node(1.0, 0.0)
+        >>> _ = s.beam(a, b, lr.Section(E=1.0, A=1.0, I=1.0), segments=4)
+        >>> s.fix(a); s.impose(b, "rz", 6.283185307179586)   # rolled into a circle at λ = 1
+        """
+        node = self._check_node(node, "impose")
+        k = dof_index(dof)
+        v = _finite(f"Imposed {dof} on node {node}", value)
+        constant = _flag("constant", constant)
+        self._check_unclaimed(node, k, "imposed")
+        key = (node, k, constant)
+        self._imposed[key] = self._imposed.get(key, 0.0) + v
+        self._changed()
+
+    def roller(self, node: int, direction) -> None:
+        """An inclined roller: the node may translate only along ``direction``.
+
+        Its translation normal to ``direction`` is fixed (a bearing on a slope, a boom
+        resting on a ramp); its rotation stays free unless fixed too
+        (``s.fix(node, "rz")``). ``direction=(1, 0)`` is the same as ``s.fix(node, "uy")``.
+        Displacements are still reported in x and y; ``path.reactions(i)`` gives the
+        support force in x and y and ``path.inclined_reactions(i)`` its component along
+        the normal n = (−dy, dx)/|d| (the rolling direction turned by +90°), one value
+        per roller in the order of ``model.inclined_nodes``.
+
+        Parameters
+        ----------
+        node : int
+        direction : pair of float
+            (dx, dy), the line along which the node rolls; any non-zero length.
+        """
+        node = self._check_node(node, "roller")
+        if isinstance(direction, str) or not hasattr(direction, "__len__") or len(direction) != 2:
+            raise TypeError(f"Roller at node {node}: `direction` must be a pair (dx, dy), got {direction!r}.")
+        d = np.array([_finite(f"Roller at node {node} direction x", direction[0]),
+                      _finite(f"Roller at node {node} direction y", direction[1])])
+        n = float(np.hypot(*d))
+        if n == 0.0:
+            raise ModelError(f"Roller at node {node}: `direction` must be non-zero, got {tuple(direction)!r}.")
+        if node in self._inclined:
+            raise ModelError(f"Node {node} already has an inclined roller.")
+        for k in (0, 1):
+            self._check_unclaimed(node, k, "on an inclined roller")
+        if (node, 0) in self._springs or (node, 1) in self._springs:
+            raise ModelError(f"Node {node} has a spring on a translation; it cannot also be on "
+                             "an inclined roller.")
+        self._inclined[node] = (float(d[0] / n), float(d[1] / n))
         self._changed()
 
     def load(self, node: int | str, fx: float = 0.0, fy: float = 0.0, mz: float = 0.0,
@@ -742,6 +829,9 @@ class Structure(Labels):
         k = _finite(f"Spring stiffness at node {node} {dof}", stiffness)
         if k <= 0.0:
             raise ModelError(f"Spring stiffness at node {node} {dof} must be positive, got {stiffness!r}.")
+        if dof_index(dof) < 2 and node in self._inclined:
+            raise ModelError(f"Node {node} is on an inclined roller; a spring on its {dof} "
+                             "is not supported there.")
         key = (node, dof_index(dof))
         self._springs[key] = self._springs.get(key, 0.0) + k
         self._changed()
@@ -791,11 +881,27 @@ class Structure(Labels):
             nodal_loads=np.array([(n, d, v, float(c)) for (n, d, c), v in self._loads.items()],
                                  dtype=float).reshape(-1, 4),
             line_loads=tuple(self._line_loads), gravity=self._gravity,
-            beam_hinge=self._beam_hinge(len(tables["beam"])))
+            beam_hinge=self._beam_hinge(len(tables["beam"])),
+            **self._imposed_arrays(), **self._inclined_arrays())
+
+    def _imposed_arrays(self) -> dict:
+        """The snapshot's imposed displacements: global DOFs (sorted) and their
+        scaled and constant values."""
+        keys = sorted({(n, d) for n, d, _ in self._imposed})
+        return {"imposed": np.array([3 * n + d for n, d in keys], dtype=np.int64),
+                "imposed_ref": np.array([self._imposed.get((n, d, False), 0.0) for n, d in keys]),
+                "imposed_const": np.array([self._imposed.get((n, d, True), 0.0) for n, d in keys])}
+
+    def _inclined_arrays(self) -> dict:
+        nodes = sorted(self._inclined)
+        return {"inclined_nodes": np.array(nodes, dtype=np.int64),
+                "inclined_direction": np.array([self._inclined[n] for n in nodes],
+                                               dtype=float).reshape(-1, 2)}
 
     def _warn_fixed_loads(self) -> None:
         """An InputWarning for nodal loads on restrained DOFs: the support takes them."""
-        on_fixed = sorted({(n, d) for n, d, _ in self._loads if (n, d) in self._fixed}
+        held = self._fixed | {(n, d) for n, d, _ in self._imposed}
+        on_fixed = sorted({(n, d) for n, d, _ in self._loads if (n, d) in held}
                           | {(n, d) for (n, _), f in self._followers.items()
                              for d in (0, 1) if f[d] and (n, 0) in self._fixed and (n, 1) in self._fixed})
         if on_fixed:
@@ -832,8 +938,10 @@ class Structure(Labels):
         return state
 
     def __setstate__(self, state: dict) -> None:
-        # a Structure saved before units and names existed: SI, nothing named
-        self.__dict__.update(units=Units(), name="", _named={}, _name_of={})
+        # a Structure saved before units, names, imposed displacements and inclined
+        # rollers existed: SI, nothing named, nothing imposed
+        self.__dict__.update(units=Units(), name="", _named={}, _name_of={}, _imposed={},
+                             _inclined={})
         self.__dict__.update(state)
 
     def __deepcopy__(self, memo) -> "Structure":

@@ -204,9 +204,8 @@ class EquilibriumPath(_Displacements):
     def u(self) -> np.ndarray:
         """Full displacement vectors, shape (n_points, 3·n_nodes)."""
         if self._u_full is None:
-            full = np.zeros((len(self), 3 * self.structure.n_nodes))
-            full[:, self.free] = self._u_free
-            self._u_full = full
+            # imposed DOFs at λ·ū_ref + ū_const, inclined rollers' motion in x and y
+            self._u_full = self.structure.expanded(self.free, self._u_free, self.load_factor)
         return self._u_full
 
     def displacement(self, node: int | str, dof: str) -> np.ndarray:
@@ -217,6 +216,9 @@ class EquilibriumPath(_Displacements):
         return self._u_free_column(self._column(node, dof))
 
     def _u_free_column(self, g: int) -> np.ndarray:
+        m = self.structure
+        if len(m.imposed) or len(m.inclined_nodes):
+            return self.u[:, g].copy()
         j = np.searchsorted(self.free, g)
         if j < len(self.free) and self.free[j] == g:
             return self._u_free[:, j].copy()
@@ -286,7 +288,11 @@ class EquilibriumPath(_Displacements):
 
         The force (moment at ``"rz"``) each restrained DOF receives from its
         support: internal force minus the loads applied there; zero at free DOFs
-        and at rotations dropped for want of a beam. :meth:`reactions` gives the
+        and at rotations dropped for want of a beam. Imposed DOFs
+        (``Structure.impose``) are restrained: their entry is the force (moment)
+        that holds the imposed motion. At an inclined roller both x and y entries
+        hold the roller's force, which is normal to its direction
+        (:meth:`inclined_reactions` gives its size). :meth:`reactions` gives the
         same numbers as a labelled table.
         """
         asm = self.structure.assembly
@@ -295,8 +301,13 @@ class EquilibriumPath(_Displacements):
         f = asm.internal_force(u, self._record(i))
         F_ref, F_const = asm.external(u)
         R = f - self.load_factor[i] * F_ref - F_const
+        Rn = self._normal_part(R)
         R[asm.free] = 0.0
         R[asm.dropped] = 0.0
+        nodes = self.structure.inclined_nodes
+        if len(nodes):
+            d = self.structure.inclined_direction
+            R[3 * nodes], R[3 * nodes + 1] = -d[:, 1] * Rn, d[:, 0] * Rn
         return R
 
     def reactions(self, i: int):
@@ -314,7 +325,10 @@ class EquilibriumPath(_Displacements):
 
         R = self.reaction_vector(i)
         model = self.structure
-        g = np.setdiff1d(model.fixed, model.assembly.dropped)
+        # supports and imposed DOFs; an inclined roller's force is in x and y
+        rollers = np.concatenate([3 * model.inclined_nodes, 3 * model.inclined_nodes + 1])
+        g = np.setdiff1d(np.union1d(np.union1d(model.fixed, model.imposed), rollers),
+                         model.assembly.dropped).astype(np.int64)
         node, d = g // 3, g % 3
         names = model._names_of_nodes()
         forces = ("fx", "fy", "mz")
@@ -326,6 +340,20 @@ class EquilibriumPath(_Displacements):
             "value": R[g],
             "unit": [model.units.reaction_unit(forces[k]) for k in d],
         })
+
+    def _normal_part(self, R: np.ndarray) -> np.ndarray:
+        d = self.structure.inclined_direction
+        nodes = self.structure.inclined_nodes
+        return -d[:, 1] * R[3 * nodes] + d[:, 0] * R[3 * nodes + 1]
+
+    def inclined_reactions(self, i: int) -> np.ndarray:
+        """Force of each inclined roller on its node at point ``i``, shape (n_inclined,).
+
+        The component along the roller's normal n = (−dy, dx) (its direction turned
+        by +90°), one value per node of ``path.model.inclined_nodes``; in x and y it
+        is n times this value (:meth:`reactions`).
+        """
+        return self._normal_part(self.reaction_vector(i))
 
     @property
     def yielded(self) -> np.ndarray:

@@ -12,7 +12,7 @@ cache is not pickled: an unpickled Model rebuilds it when first asked.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import MISSING, dataclass, field
 from functools import cached_property
 
 import numpy as np
@@ -154,6 +154,15 @@ class Model(Labels):
         Rotational stiffness joining each beam element's ends to their nodes: ∞ a
         rigid joint, 0 a hinge, else a semi-rigid release. None when no member end
         is released.
+    imposed : ndarray of int, shape (n_imposed,)
+        Global DOFs with an imposed displacement (``Structure.impose``), sorted.
+    imposed_ref, imposed_const : ndarray, shape (n_imposed,)
+        Their values scaled by λ and held constant: u = λ·imposed_ref + imposed_const.
+    inclined_nodes : ndarray of int, shape (n_inclined,)
+        Nodes on an inclined roller (``Structure.roller``), sorted.
+    inclined_direction : ndarray, shape (n_inclined, 2)
+        Unit direction each rolls along; its translation along the normal
+        (−dy, dx) is fixed.
     """
 
     xy: np.ndarray
@@ -183,6 +192,11 @@ class Model(Labels):
     line_loads: tuple = field(default=())
     gravity: tuple | None = field(default=None)
     beam_hinge: np.ndarray | None = None
+    imposed: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+    imposed_ref: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    imposed_const: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    inclined_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+    inclined_direction: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
 
     def __post_init__(self) -> None:
         for value in vars(self).values():
@@ -264,6 +278,38 @@ class Model(Labels):
 
     def _names_of_nodes(self) -> dict:
         return self._name_maps[1]
+    def expanded(self, free: np.ndarray, u_free: np.ndarray, lam=None,
+                 const_factor: float = 1.0) -> np.ndarray:
+        """Full displacement vectors in x, y from the free unknowns.
+
+        Parameters
+        ----------
+        free : ndarray of int, shape (n_free,)
+            Global DOF of each unknown (``Assembly.free``); at an inclined roller the
+            node's ``"ux"`` slot holds its displacement along the rolling direction.
+        u_free : ndarray, shape (n_free,) or (n_points, n_free)
+        lam : float or ndarray of shape (n_points,), optional
+            Load factor of each vector: imposed DOFs get λ·imposed_ref +
+            const_factor·imposed_const. None leaves them zero (modes, increments).
+        const_factor : float
+
+        Returns
+        -------
+        ndarray, shape (n_dof,) or (n_points, n_dof)
+            Restrained DOFs zero.
+        """
+        u_free = np.asarray(u_free, dtype=float)
+        out = np.zeros(u_free.shape[:-1] + (self.n_dof,))
+        out[..., free] = u_free
+        if len(self.inclined_nodes):
+            gx = 3 * self.inclined_nodes
+            along = out[..., gx]
+            out[..., gx] = along * self.inclined_direction[:, 0]
+            out[..., gx + 1] = along * self.inclined_direction[:, 1]
+        if lam is not None and len(self.imposed):
+            lam = np.asarray(lam, dtype=float)[..., None]
+            out[..., self.imposed] = lam * self.imposed_ref + const_factor * self.imposed_const
+        return out
 
     # -- derived data, cached ---------------------------------------------------------
     @cached_property
@@ -279,8 +325,9 @@ class Model(Labels):
         return state
 
     def __setstate__(self, state: dict) -> None:
-        if "nodal_loads" not in state:        # saved before the drawing tables existed
-            state = {"nodal_loads": np.zeros((0, 4)), **state}
+        for name, f in self.__dataclass_fields__.items():      # fields added since a save
+            if name not in state and f.default_factory is not MISSING:
+                object.__setattr__(self, name, f.default_factory())
         for k, v in state.items():
             object.__setattr__(self, k, v)
         self.__post_init__()
@@ -304,7 +351,8 @@ def check_traceable(model: Model) -> None:
     Warns
     -----
     InputWarning
-        No load at all: every point of a trace is the same equilibrium. (Constant
+        No load at all (imposed displacements count as loads): every point of a
+        trace is the same equilibrium. (Constant
         loads alone are a legal use: the first point settles under them.)
     """
     if len(model.assembly.free) == 0:
@@ -312,8 +360,9 @@ def check_traceable(model: Model) -> None:
                          "or none at all): nothing to solve.")
     loaded = (model.F_ref.any() or model.F_const.any()
               or any(len(nodes) for nodes, _ in model.followers)
-              or any(len(elements) for _, elements, _ in model.pressures))
+              or any(len(elements) for _, elements, _ in model.pressures)
+              or model.imposed_ref.any() or model.imposed_const.any())
     if not loaded:
         warn_input("The structure has no load at all: every point of the trace is the same "
-                   "equilibrium at rest. Add a load with s.load(...), s.line_load(...) or "
-                   "s.gravity(...).")
+                   "equilibrium at rest. Add a load with s.load(...), s.line_load(...), "
+                   "s.gravity(...) or an imposed displacement with s.impose(...).")

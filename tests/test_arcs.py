@@ -120,7 +120,7 @@ def test_polyline_builds_one_member_per_piece():
     s.fix(line.nodes[-1])
     s.load(line.nodes[1], fx=1.0)
     path = lr.trace(s, lr.by_load(1.0), target_load_factor=1.0)
-    r = path.reactions(-1)
+    r = path.reaction_vector(-1)
     A, D = line.nodes[0], line.nodes[-1]
     assert r[3 * A] + r[3 * D] == pytest.approx(-1.0, rel=1e-12)
     assert r[3 * D + 1] == pytest.approx(3.0 / 4.0, rel=1e-6)

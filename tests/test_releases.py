@@ -122,7 +122,7 @@ def test_three_hinged_arch_reactions_match_statics(both):
     s.load(c, fy=-P)
     path = lr.trace(s, lr.by_load(1.0), target_load_factor=1.0)
     assert path.status == "target"
-    r = path.reactions(-1)
+    r = path.reaction_vector(-1)
     H = P * span / (4.0 * rise)
     assert r[3 * a + 1] == pytest.approx(P / 2, rel=1e-6)
     assert r[3 * b + 1] == pytest.approx(P / 2, rel=1e-6)
@@ -164,7 +164,7 @@ def test_propped_cantilever_with_internal_hinge_point_load(released):
     mid = bc.nodes[2]
     s.load(mid, fy=-P)
     path = lr.trace(s, lr.by_load(1.0), target_load_factor=1.0)
-    r = path.reactions(-1)
+    r = path.reaction_vector(-1)
     EI = SEC.EI
     assert r[3 * C + 1] == pytest.approx(P / 2, rel=1e-6)
     assert r[3 * A + 1] == pytest.approx(P / 2, rel=1e-6)
@@ -183,7 +183,7 @@ def test_line_load_on_hinged_member_gives_statics_reactions():
     s, A, B, C, ab, bc = gerber_beam(a_len, b_len, 6, "start")
     s.line_load(bc, qy=-w)
     path = lr.trace(s, lr.by_load(1.0), target_load_factor=1.0)
-    r = path.reactions(-1)
+    r = path.reaction_vector(-1)
     assert r[3 * C + 1] == pytest.approx(w * b_len / 2, rel=1e-6)
     assert r[3 * A + 1] == pytest.approx(w * b_len / 2, rel=1e-6)
     assert r[3 * A + 2] == pytest.approx(w * b_len * a_len / 2, rel=1e-6)

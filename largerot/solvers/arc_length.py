@@ -224,7 +224,7 @@ class ArcLengthStepper(PathStepper):
             # the load, u hardly moves and its increment alone carries no sense
             sense = 1.0 if self._sense_metric.dot(prev[0], prev[1], v, 1.0) >= 0.0 else -1.0
         dlam = sense * h / norm
-        u_pred, lam_pred = self._along(dlam * v), self.lam + dlam
+        u_pred, lam_pred = self._along(dlam * v, dlam), self.lam + dlam
         self._predictor = (dlam * v, dlam)
         if self.constraint in ("cylindrical", "spherical"):
             c = QuadraticConstraint(m, self.u, self.lam, h)

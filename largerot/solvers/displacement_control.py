@@ -42,5 +42,5 @@ class DisplacementStepper(PathStepper):
         if v[self.j] == 0.0:
             return None
         dlam = h / v[self.j]
-        return (self._along(dlam * v), self.lam + dlam,
+        return (self._along(dlam * v, dlam), self.lam + dlam,
                 DisplacementConstraint(self.j, self.u[self.j] + h))

@@ -83,7 +83,7 @@ class LoadStepper(PathStepper):
         if self.target is not None and (self.lam + h - self.target) * (self.lam - self.target) <= 0:
             dlam = self.target - self.lam          # shorten the last step to land on the target
         lam = self.lam + dlam
-        u = self._along(dlam * self.tangent_direction())
+        u = self._along(dlam * self.tangent_direction(), dlam)
         self._predicted = u - self.u
         return u, lam, LoadConstraint(lam)
 

@@ -373,7 +373,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
                 r, K, scale = ev
                 continue
         if CHORD_CORRECTION and hasattr(problem, "moved"):
-            du = problem.moved(u, du) - u
+            du = problem.moved(u, du, lam, dlam) - u
         trial = problem.residual(u + du, lam + dlam)
         eta = 1.0
         s0 = float(du @ r)

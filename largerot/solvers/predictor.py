@@ -62,10 +62,9 @@ class ChordFit:
         Global DOFs ux, uy of each chord's first end, then of its second.
     dX : ndarray, shape (n, 2)
         Undeformed chord vectors.
-    ends : ndarray of int, shape (n, 4)
-        The free-DOF index of each of ``dm``'s DOFs, ``n_free`` for a supported one.
     used : ndarray of int, shape (m,)
-        Free-DOF indices of the fitted translations.
+        Free-DOF indices of the fitted translations (at an inclined roller, the one
+        along its direction, entering the chords' x and y by its cosine and sine).
     """
 
     def __init__(self, assembly) -> None:
@@ -80,14 +79,15 @@ class ChordFit:
         n = len(k)
         fi = assembly.free_index
         rows = np.tile(np.arange(2 * n), 2)
-        cols = np.concatenate([fi[self.dm[:, 2:4]].ravel(), fi[self.dm[:, 0:2]].ravel()])
+        g = np.concatenate([self.dm[:, 2:4].ravel(), self.dm[:, 0:2].ravel()])
         vals = np.repeat([1.0, -1.0], 2 * n)
+        node, d = g // 3, g % 3
+        rolls = assembly._roller[node]                       # inclined rollers: one DOF along
+        cols = fi[np.where(rolls, 3 * node, g)]
+        vals = vals * np.where(rolls, assembly._roller_dir[node, np.minimum(d, 1)], 1.0)
         held = cols < 0                                        # a supported end stays put
         self.used, cols = np.unique(cols[~held], return_inverse=True)
         G = sp.csc_matrix((vals[~held], (rows[~held], cols)), shape=(2 * n, len(self.used)))
-        # free-DOF index of each chord end's ux, uy; a supported one reads the zero
-        # appended after the free displacements
-        self.ends = np.where(fi[self.dm] >= 0, fi[self.dm], assembly.n_free)
         self.w = np.repeat(k, 2)
         self.GtW = (G.T @ sp.diags(self.w)).tocsr()
         A = (self.GtW @ G + sp.identity(len(self.used)) * (ANCHOR * float(k.mean()))).tocsc()
@@ -109,7 +109,8 @@ def chord_fit(assembly) -> ChordFit:
     return fit
 
 
-def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
+def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray, lam0: float = 0.0,
+                     lam1: float | None = None, const_factor: float = 1.0) -> np.ndarray:
     """The tangent predictor ``u1`` from ``u0`` with the beams' chords rebuilt.
 
     Parameters
@@ -120,6 +121,10 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
         The last converged point.
     u1 : ndarray, shape (n_free,)
         The tangent predictor ``u0 + Δλ·δu_F``.
+    lam0, lam1 : float
+        Load factors of the two states (``lam1`` default ``lam0``): the imposed DOFs
+        move from λ0·ū_ref + const_factor·ū_const by (λ1 − λ0)·ū_ref.
+    const_factor : float
 
     Returns
     -------
@@ -131,10 +136,13 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray) -> np.ndarray:
     fit = chord_fit(assembly)
     if fit.empty or fit.lu is None:
         return u1
-    ends = fit.ends
-    U0, dU = np.append(u0, 0.0), np.append(u1 - u0, 0.0)
-    x0 = fit.dX + U0[ends[:, 2:4]] - U0[ends[:, 0:2]]
-    d = dU[ends[:, 2:4]] - dU[ends[:, 0:2]]
+    dm, m, free = fit.dm, assembly.model, assembly.free
+    # full vectors in x, y: supports read zero, imposed DOFs their motion, rollers
+    # their displacement along the slope
+    U0 = m.expanded(free, u0, lam0, const_factor)
+    dU = m.expanded(free, u1 - u0, (lam0 if lam1 is None else lam1) - lam0, 0.0)
+    x0 = fit.dX + U0[dm[:, 2:4]] - U0[dm[:, 0:2]]
+    d = dU[dm[:, 2:4]] - dU[dm[:, 0:2]]
     l0sq = np.einsum("ei,ei->e", x0, x0)
     e = np.einsum("ei,ei->e", x0, d) / l0sq                 # Δl/l0
     phi = (x0[:, 0] * d[:, 1] - x0[:, 1] * d[:, 0]) / l0sq  # Δφ

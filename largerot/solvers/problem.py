@@ -1,5 +1,12 @@
 """The discrete equilibrium problem r(u, λ) = λ·F_ref + F_const − f_int(u) on free DOFs.
 
+Imposed displacements are eliminated: the imposed DOFs are not unknowns, the full
+displacement vector holds them at λ·ū_ref + ū_const (:meth:`Problem.full`), so
+f_int depends on λ through them too and ∂r/∂λ — the "load vector" ``Problem.F`` of
+the bordered Newton and of every predictor — is F_ref − K_fp·ū_ref (free rows of
+the tangent times the imposed motion per unit λ), updated at every evaluation with
+a tangent, as the follower loads' F is.
+
 A :class:`Problem` is a stepper's view of its model: residual and tangent as
 functions of the free displacements and λ, evaluated with the history ``states``
 that the stepper owns and hands it. It remembers its last evaluation, so the
@@ -33,10 +40,13 @@ class Problem:
     def __init__(self, assembly: Assembly, states: list | None = None) -> None:
         self.assembly = assembly
         self.states = assembly.initial_states() if states is None else list(states)
-        #: reference load over the free DOFs (∂r/∂λ); with follower loads it is the
-        #: one at the last evaluated state
-        self.F = assembly.F_ref[assembly.free]
-        self.F_const = assembly.F_const[assembly.free]
+        #: the reference loads over the free DOFs; with follower loads the ones at the
+        #: last evaluated state
+        self.F_loads = assembly.framed(assembly.F_ref)[assembly.free]
+        #: ∂r/∂λ over the free DOFs: ``F_loads`` less K_fp·ū_ref of scaled imposed
+        #: displacements, at the last state evaluated with its tangent
+        self.F = self.F_loads
+        self.F_const = assembly.framed(assembly.F_const)[assembly.free]
         # follower loads have a non-symmetric load stiffness
         self.symmetric = not assembly.has_followers
         self.const_factor = 1.0        # < 1 only while the constant loads are ramped in
@@ -51,11 +61,12 @@ class Problem:
     def n(self) -> int:
         return self.assembly.n_free
 
-    def full(self, u: np.ndarray) -> np.ndarray:
-        return self.assembly.expand(u)
+    def full(self, u: np.ndarray, lam: float = 0.0) -> np.ndarray:
+        """The full displacement vector (x, y) of the state (u, λ), imposed DOFs included."""
+        return self.assembly.full(u, lam, self.const_factor)
 
     def external(self, lam: float) -> np.ndarray:
-        return lam * self.F + self.const_factor * self.F_const
+        return lam * self.F_loads + self.const_factor * self.F_const
 
     def with_states(self, states: list) -> "Problem":
         """The same problem evaluated with other history (counters shared by value)."""
@@ -77,11 +88,14 @@ class Problem:
         """
         self.n_evaluations += 1
         a = self.assembly
-        uf = self.full(u)
+        uf = self.full(u, lam)
         ev = a.evaluate(uf, self.states, tangent, lam, self.const_factor)
         if a.has_followers:
             F_ref, F_const = a.external(uf)
-            self.F, self.F_const = F_ref[a.free], F_const[a.free]
+            self.F_loads, self.F_const = a.framed(F_ref)[a.free], a.framed(F_const)[a.free]
+            self.F = self.F_loads
+        if ev.Ku_ref is not None:
+            self.F = self.F_loads - ev.Ku_ref[a.free]
         ext = self.external(lam)
         r = ext - ev.f[a.free]
         scale = max(ev.scale, float(np.linalg.norm(ext)), _TINY)
@@ -99,13 +113,14 @@ class Problem:
         """Per-point data worth keeping at a converged (u, λ) (see ``Assembly.record``)."""
         return self.assembly.record(self.evaluation(u, lam))
 
-    def moved(self, u: np.ndarray, du: np.ndarray) -> np.ndarray:
+    def moved(self, u: np.ndarray, du: np.ndarray, lam: float = 0.0, dlam: float = 0.0) -> np.ndarray:
         """``u + du`` with the beams' chords kept whole to first order in ``du``
         (:func:`~largerot.solvers.predictor.chord_consistent`), where every group
-        allows it (``Group.chord_fit``; not with contacts)."""
+        allows it (``Group.chord_fit``; not with contacts). ``lam`` and ``dlam`` move
+        the imposed DOFs along (from λ to λ + Δλ)."""
         if not all(g.chord_fit for g in self.assembly.groups):
             return u + du
-        return chord_consistent(self.assembly, u, u + du)
+        return chord_consistent(self.assembly, u, u + du, lam, lam + dlam, self.const_factor)
 
     def norm(self, du: np.ndarray) -> float:
         """Weighted displacement norm (rotations scaled by the structure's size)."""

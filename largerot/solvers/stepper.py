@@ -283,7 +283,7 @@ class PathStepper:
         """Warn when the constant loads alone turned a beam or bar element inside out
         (its chord points against the undeformed one): legal, rarely meant."""
         m = self.model
-        X = m.xy + self.assembly.expand(u).reshape(-1, 3)[:, :2]
+        X = m.xy + self.assembly.full(u, 0.0).reshape(-1, 3)[:, :2]
         for kind, nodes, skip in (("beam", m.beam_nodes, None), ("bar", m.bar_nodes, m.bar_cable)):
             if not len(nodes):
                 continue
@@ -498,7 +498,7 @@ class PathStepper:
     def _critical_from(self, info: dict, i: int) -> CriticalPoint:
         """A CriticalPoint after point ``i`` from what ``critical.locate`` found."""
         free = self.assembly.free
-        return CriticalPoint(info["kind"], info["lam"], i, self.assembly.expand(info["u"]),
+        return CriticalPoint(info["kind"], info["lam"], i, self.assembly.full(info["u"], info["lam"]),
                              self.assembly.expand(_normalised_mode(info["mode"], free)),
                              located=info["located"], load_cosine=info["load_cosine"])
 
@@ -521,7 +521,7 @@ class PathStepper:
             return brackets[key]
 
         located = locate_crossings(found, bracket_for,
-                                   lambda r: Point(self.model, i, r.lam, self.assembly.expand(r.u)),
+                                   lambda r: Point(self.model, i, r.lam, self.assembly.full(r.u, r.lam)),
                                    a.lam, b.lam)
         self.n_factorizations += sum(br.n_factorizations for br in brackets.values())
         events, terminal = [], None
@@ -545,13 +545,15 @@ class PathStepper:
         """Return ``(u_pred, lam_pred, constraint)`` for a step ``h``, or None."""
         raise NotImplementedError
 
-    def _along(self, du: np.ndarray) -> np.ndarray:
-        """The predicted displacements for the tangent increment ``du`` from the last point.
+    def _along(self, du: np.ndarray, dlam: float = 0.0) -> np.ndarray:
+        """The predicted displacements for the tangent increment (``du``, ``dlam``)
+        from the last point.
 
         ``u + du`` with the beams' chords rebuilt to the increment's first-order
-        length and direction (:func:`~largerot.solvers.predictor.chord_consistent`).
+        length and direction (:func:`~largerot.solvers.predictor.chord_consistent`);
+        imposed DOFs move by ``dlam``·ū_ref meanwhile.
         """
-        return chord_consistent(self.assembly, self.u, self.u + du)
+        return chord_consistent(self.assembly, self.u, self.u + du, self.lam, self.lam + dlam)
 
     # -- views ------------------------------------------------------------------------
     def factorization(self):
@@ -563,8 +565,9 @@ class PathStepper:
             # for bit like the original
             self._fact = factor(K, symmetric=p.symmetric)
             self.n_factorizations += 1
-            if self.assembly.has_followers:         # F of the follower loads at u
-                self.problem.F, self.problem.F_const = p.F, p.F_const
+            if self.assembly.has_followers or self.assembly.has_prescribed:
+                # F of the follower loads, and K_fp·ū_ref, at u
+                self.problem.F, self.problem.F_loads, self.problem.F_const = p.F, p.F_loads, p.F_const
         return self._fact
 
     def tangent_direction(self) -> np.ndarray:
@@ -572,7 +575,7 @@ class PathStepper:
         return self.factorization().solve(self.problem.F)
 
     def _point_of(self, i: int, rec: PointRecord) -> Point:
-        return Point(self.model, i, rec.lam, self.assembly.expand(rec.u), rec.iterations)
+        return Point(self.model, i, rec.lam, self.assembly.full(rec.u, rec.lam), rec.iterations)
 
     def last_point(self) -> Point:
         return self._point_of(self.n_points - 1, self._points[-1])
