@@ -2,7 +2,7 @@
 
 Geometry used throughout (stated in the README's performance section):
 
-* **pole / cantilever**: an 8 m glass-fibre tube (E = 25 GPa, Ø 120 mm, 6 mm wall,
+* **pole / cantilever**: an 8 m glass-fibre tube (E = 25 GPa, a typical value from memory; Ø 120 mm, 6 mm wall,
   slenderness L/r ≈ 200), clamped at its base and pulled sideways at its top by
   4 kN (P·L²/EI ≈ 2.9, a tip deflection of about half its length). It is meshed into
   1,000 … 100,000 equal elements; at 100,000 an element is 80 µm long, so the

@@ -232,7 +232,7 @@ def shallow_arch_central_load(rise: float, span: float, EI: float, EA: float,
 def elastic_catenary(span: float, rise: float, length: float, w: float, EA: float) -> dict:
     """Elastic cable hanging under its own weight between two fixed points.
 
-    Irvine 1981, *Cable Structures*, §2.2 (the elastic catenary): with s the
+    Irvine 1981, *Cable Structures*, MIT Press, ch. 1 (the elastic catenary; the section number from memory): with s the
     unstretched arc length from the left support (0, 0), w the weight per unit
     unstretched length, H the horizontal tension and V the upward reaction at the
     left support, T(s) = √(H² + (w·s − V)²) and

@@ -110,7 +110,7 @@ def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1.0e4) 
 
 
 def two_piece_cable(pretension: float = 5e3, load: float = 20e3) -> Scenario:
-    """A weightless steel rope (E = 160 GPa, 2 cm²) between pins 30 m apart,
+    """A weightless steel rope (E = 160 GPa, a typical rope modulus from memory; 2 cm²) between pins 30 m apart,
     pretensioned, pulled down 12 m from one end by ``load`` × λ (newtons).
 
     Meshed into 4 and 6 segments, which stay straight: exact curve from the statics

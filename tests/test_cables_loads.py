@@ -29,7 +29,7 @@ def hanging_cable(rise: float, length_factor: float, segments: int = 80):
 
 @pytest.mark.parametrize("rise", [0.0, 30.0, -20.0])
 def test_elastic_catenary_under_self_weight(rise):
-    # Irvine 1981, Cable Structures, §2.2: elastic catenary, H and mid-span sag.
+    # Irvine 1981, Cable Structures, ch. 1 (section from memory): elastic catenary, H and mid-span sag.
     # Sag/span about 0.1. 80 segments with the weight lumped at the nodes: the
     # discrete chain differs from the continuous one by O(h²) ≈ 1e-4 relative.
     s, m, a, L0 = hanging_cable(rise, 1.027)
