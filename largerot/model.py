@@ -482,7 +482,7 @@ class Structure(Labels):
                 xy.append(np.array([_coordinate(f"Polyline point {k} x", p[0]),
                                     _coordinate(f"Polyline point {k} y", p[1])]))
             else:
-                raise TypeError(f"Polyline point {k} must be a node id or an (x, y) pair, got {p!r}.")
+                raise TypeError(f"Polyline point {k} must be a node id or name, or an (x, y) pair, got {p!r}.")
         for k in range(len(xy) - 1):
             if np.array_equal(xy[k], xy[k + 1]):
                 raise ModelError(f"Polyline points {k} and {k + 1} coincide at {xy[k].tolist()}: "
