@@ -212,7 +212,7 @@ class Factorization:
 
     def _compute_pivots(self) -> None:
         pivots, order = self._pivots_in_order()
-        if not np.all(np.isfinite(pivots)):
+        if not np.isfinite(pivots).all():
             raise SingularTangent("The factorisation produced non-finite pivots.")
         diag = np.abs(self._diagonal())
         self._pivots = pivots
@@ -381,9 +381,9 @@ class LDLFactorization(Factorization):
         # stale numbers. A zero pivot in floating point comes from a zero row (a node
         # whose every member went slack), caught here for O(n); D itself is checked
         # when the pivots are read (inertia, mechanism check).
-        if sym.diagonal is None or not np.all(K.data[sym.diagonal] != 0.0):
+        if sym.diagonal is None or not (K.data[sym.diagonal] != 0.0).all():
             raise SingularTangent("The tangent has a zero on its diagonal.")
-        if not np.all(np.isfinite(K.data)):
+        if not np.isfinite(K.data).all():
             raise SingularTangent("The tangent has non-finite entries.")
         self._Ku = sym.upper_triangle(K)
         sym.factor(self._Ku, self)
@@ -400,7 +400,7 @@ class LDLFactorization(Factorization):
     def _pivots_in_order(self):
         _, d, perm = self._solver().factors()
         d = np.asarray(d)
-        if not np.all(d != 0.0):
+        if not (d != 0.0).all():
             raise SingularTangent("The LDLᵀ factorisation met a zero pivot.")
         return d, np.asarray(perm, dtype=np.int64)
 

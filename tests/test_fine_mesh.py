@@ -94,3 +94,21 @@ def test_predictor_turns_a_rigidly_rotated_cantilever_without_stretching_it(phi)
     err = np.abs(U.reshape(-1, 3)[:, :2] - exact).max()
     assert err < 3e-9
     assert np.allclose(U[2::3][1:], phi)                   # rotations keep the increment
+
+
+def test_dense_chord_fit_of_small_models_equals_the_sparse_one():
+    # The same least-squares fit two ways (the dense product below DENSE_FIT_MAX
+    # translations, the sparse solve above): equal to round-off of the fit itself.
+    from largerot.solvers import predictor
+    s, base, top = _pole(40)
+    A = s.snapshot().assembly
+    rng = np.random.default_rng(3)
+    u0 = 1e-2 * rng.standard_normal(A.n_free)
+    u1 = u0 + 1e-2 * rng.standard_normal(A.n_free)
+    fit = predictor.chord_fit(A)
+    assert fit.dense is not None                       # 80 translations: the dense path
+    dense = chord_consistent(A, u0, u1)
+    fit.dense = None                                   # force the sparse solve
+    sparse = chord_consistent(A, u0, u1)
+    assert np.abs(dense - sparse).max() <= 1e-12 * np.abs(u1 - u0).max()
+    assert np.abs(dense - u1).max() > 1e-6 * np.abs(u1 - u0).max()   # the fit did act

@@ -69,6 +69,7 @@ accepted: it has stopped moving, short of the tolerance.
 from __future__ import annotations
 
 import logging
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -324,7 +325,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
     uphill = -max_iterations - 1          # last iteration whose correction went up the energy
     r, K, scale = problem.residual(u, lam)
     for k in range(max_iterations + 1):
-        norm_r = float(np.linalg.norm(r))
+        norm_r = math.sqrt(float(r @ r))
         ratio = norm_r / scale
         history.append(ratio)
         if not np.isfinite(ratio):
@@ -337,8 +338,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         except SingularTangent:
             return NewtonResult(False, u, lam, k, np.array(history),
                                 "The tangent is singular at a trial point.", line_searches=n_searches)
-        sol = fact.solve(np.column_stack([r, problem.F]))
-        du_r, du_F = sol[:, 0], sol[:, 1]
+        du_r, du_F = fact.solve(r), fact.solve(problem.F)
         dlam = constraint.delta_lam(du_r, du_F, u, lam)
         if dlam is None or not np.isfinite(dlam):
             return NewtonResult(False, u, lam, k, np.array(history),
@@ -381,7 +381,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
             uphill = k
         if s0 != 0.0 and np.isfinite(s0):
             s1 = float(du @ trial[0])
-            n1 = float(np.linalg.norm(trial[0]))
+            n1 = math.sqrt(float(trial[0] @ trial[0]))
             if not (abs(s1) <= LS_ACCEPT * abs(s0) or n1 <= LS_RESIDUAL_DROP * norm_r):
                 if floor is None:
                     floor = FLOOR_FACTOR * roundoff_level(K, u)

@@ -49,6 +49,11 @@ log = logging.getLogger(__name__)
 #: there by 1e-4 to 1e-2 of the misfit (itself of second order), while a beam no
 #: support holds keeps the predictor's rigid motion instead of a singular system.
 ANCHOR = 1e-12
+#: Up to this many fitted translations the fit is one dense product with the
+#: precomputed (GᵀWG + εI)⁻¹·GᵀW (at most 300 × 600 doubles, 1.4 MB): on the small
+#: models people re-trace interactively the sparse product and SuperLU solve are
+#: mostly call overhead, three times per point (a 40-element pole: 80 translations).
+DENSE_FIT_MAX = 300
 
 
 class ChordFit:
@@ -96,6 +101,15 @@ class ChordFit:
         except RuntimeError as exc:                            # singular: no fit
             log.debug("chord fit unavailable: %s", exc)
             self.lu = None
+        self.dense = None                                      # (m, 2n): misfit -> δ
+        if self.lu is not None and len(self.used) <= DENSE_FIT_MAX:
+            self.dense = self.lu.solve(self.GtW.toarray())
+
+    def solve(self, misfit: np.ndarray) -> np.ndarray:
+        """The fitted translations' change δ, shape (m,), for a chord misfit (2n,)."""
+        if self.dense is not None:
+            return self.dense @ misfit
+        return self.lu.solve(self.GtW @ misfit)
 
     def __getstate__(self) -> dict:
         raise TypeError("ChordFit holds a native factorisation; rebuild it from the assembly.")
@@ -158,8 +172,8 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray, lam0: float = 0.0
     misfit[:, 0] = along * x0[:, 0] - across * x0[:, 1] - d[:, 0]
     misfit[:, 1] = across * x0[:, 0] + along * x0[:, 1] - d[:, 1]
     misfit = misfit.ravel()                                # (2n,): chord x, y per element
-    delta = fit.lu.solve(fit.GtW @ misfit)
-    if not np.all(np.isfinite(delta)):
+    delta = fit.solve(misfit)
+    if not np.isfinite(delta).all():
         return u1
     u = u1.copy()
     u[fit.used] += delta

@@ -388,7 +388,7 @@ class PathStepper:
         if pred is None:
             return None
         u_pred, lam_pred, constraint = pred
-        if not (np.all(np.isfinite(u_pred)) and np.isfinite(lam_pred)):
+        if not (np.isfinite(u_pred).all() and np.isfinite(lam_pred)):
             return NewtonResult(False, self.u, self.lam, 0, np.array([]), "The predictor is not finite.")
         res = self._correct(u_pred, lam_pred, constraint)
         if res.converged and self.target is not None and self._crossed(res.lam):
