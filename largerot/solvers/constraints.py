@@ -65,8 +65,8 @@ class QuadraticConstraint:
             return roots[0]
         # the angle of each new increment v + r·δu_F, Dlam + r with the current one
         vD, FD = float(np.dot(wv, Du)), float(np.dot(wF, Du))
-        scores = [vD + r * FD + m.s2 * (Dlam + r) * Dlam for r in roots]
-        return roots[int(np.argmax(scores))]
+        s0, s1 = (vD + r * FD + m.s2 * (Dlam + r) * Dlam for r in roots)
+        return roots[0] if s0 >= s1 else roots[1]
 
 
 class PlaneConstraint:

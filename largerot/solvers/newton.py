@@ -68,11 +68,13 @@ accepted: it has stopped moving, short of the tolerance.
 """
 from __future__ import annotations
 
+import copy
 import logging
 import math
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.sparse as sp
 
 from ..linalg import Factorization, SingularTangent, factor, shifted
 from .problem import Problem
@@ -178,7 +180,12 @@ def _rate(res: list[float]) -> float:
 
 def roundoff_level(K, u: np.ndarray) -> float:
     """ρ = eps·‖|K|·|u|‖: the residual's round-off level at ``u``, shape (n_free,)."""
-    return _EPS * float(np.linalg.norm(abs(K) @ abs(u)))
+    if sp.issparse(K) and K.format in ("csc", "csr"):
+        absK = copy.copy(K)                  # the pattern shared: no validated new matrix
+        absK.data = np.abs(K.data)
+    else:
+        absK = abs(K)
+    return _EPS * float(np.linalg.norm(absK @ np.abs(u)))
 
 
 def line_search(problem: Problem, u: np.ndarray, lam: float, du: np.ndarray, dlam: float,
