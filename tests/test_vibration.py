@@ -250,3 +250,19 @@ def test_bad_point_index():
     path = lr.trace(column(4), lr.by_load(0.5), max_steps=1)
     with pytest.raises(lr.ModelError, match="Point index 7"):
         lr.frequencies(path, i=7)
+
+
+def test_plot_frequencies_draws_the_computed_values():
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    path = lr.trace(column(8), lr.by_load(0.25), target_load_factor=1.25)
+    f = lr.frequencies(path, modes=2)
+    ax = lr.plotting.plot_frequencies(path, modes=2, f=f)
+    lines = [ln for ln in ax.lines if ln.get_label().startswith("mode")]
+    assert len(lines) == 2
+    assert np.allclose(lines[0].get_ydata(), f[:, 0])
+    assert np.allclose(lines[0].get_xdata(), path.load_factor)
+    ax2 = lr.plotting.plot_frequencies(path)       # computes its own
+    assert np.allclose(ax2.lines[0].get_ydata(), f[:, 0])
+    plt.close("all")
