@@ -13,7 +13,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from .errors import ModelError, checked_integer, checked_node, is_real, warn_input
+from .errors import ModelError, checked_integer, checked_node, checked_number, is_real, warn_input
 from .geometry import arc_points, hanging_chain
 from .sections import Section
 from .snapshot import Labels, Model
@@ -269,6 +269,7 @@ class Structure(Labels):
         # node -> unit rolling direction (dx, dy)
         self._imposed: dict[tuple[int, int, bool], float] = {}
         self._inclined: dict[int, tuple[float, float]] = {}
+        self._masses: dict[int, tuple[float, float]] = {}      # node -> (m, inertia)
         self._version = 0
 
     # -- building ------------------------------------------------------------
@@ -836,6 +837,42 @@ class Structure(Labels):
         self._springs[key] = self._springs.get(key, 0.0) + k
         self._changed()
 
+    def mass(self, node: int | str, m: float, inertia: float = 0.0) -> None:
+        """A concentrated mass at a node (id or name): a payload, a lamp head.
+
+        ``m`` acts on both translations and ``inertia`` (mass moment of inertia about
+        the node) on the rotation; masses at the same node add up. They enter the
+        mass matrix (:func:`largerot.mass.mass_matrix`) beside the members' own mass
+        (from ``Section.density``), not the loads: for its weight add a load or use
+        :meth:`gravity` on members. A mass on a restrained DOF moves with the support
+        and does nothing; ``inertia`` at a node without rotational stiffness (no
+        beam, or only hinged beam ends) is dropped with that rotation.
+
+        Parameters
+        ----------
+        m : float
+            Mass, ≥ 0, in the structure's units (kg in SI: force/acceleration).
+        inertia : float
+            Rotary inertia, ≥ 0 (kg·m² in SI).
+        """
+        node = self._check_node(node, "mass")
+        m = checked_number(f"Mass at node {node}", "m", m, nonnegative=True)
+        inertia = checked_number(f"Mass at node {node}", "inertia", inertia, nonnegative=True)
+        masses = self.__dict__.setdefault("_masses", {})
+        old = masses.get(node, (0.0, 0.0))
+        masses[node] = (old[0] + m, old[1] + inertia)
+        self._changed()
+
+    def masses(self) -> dict:
+        """Concentrated masses: {node id: (m, inertia)}."""
+        return dict(self.__dict__.get("_masses", {}))
+
+    def _mass_arrays(self) -> dict:
+        masses = self.__dict__.get("_masses", {})
+        nodes = sorted(masses)
+        return {"mass_nodes": np.array(nodes, dtype=np.int64),
+                "mass_values": np.array([masses[n] for n in nodes], dtype=float).reshape(-1, 2)}
+
     # -- snapshot and copies ----------------------------------------------------
     def snapshot(self) -> Model:
         """The structure as it is now, frozen: what a trace and its path work on.
@@ -882,7 +919,7 @@ class Structure(Labels):
                                  dtype=float).reshape(-1, 4),
             line_loads=tuple(self._line_loads), gravity=self._gravity,
             beam_hinge=self._beam_hinge(len(tables["beam"])),
-            **self._imposed_arrays(), **self._inclined_arrays())
+            **self._imposed_arrays(), **self._inclined_arrays(), **self._mass_arrays())
 
     def _imposed_arrays(self) -> dict:
         """The snapshot's imposed displacements: global DOFs (sorted) and their
@@ -942,6 +979,7 @@ class Structure(Labels):
         # rollers existed: SI, nothing named, nothing imposed
         self.__dict__.update(units=Units(), name="", _named={}, _name_of={}, _imposed={},
                              _inclined={})
+        self.__dict__.setdefault("_masses", {})      # saved before nodal masses existed
         self.__dict__.update(state)
 
     def __deepcopy__(self, memo) -> "Structure":

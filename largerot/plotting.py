@@ -13,14 +13,15 @@ import numpy as np
 from matplotlib.collections import LineCollection
 from matplotlib.text import Text
 
-from .errors import checked_number
+from .errors import ModelError, checked_number
 from .model_figure import plot_model
 from .results import EquilibriumPath, member_lines
 from .model import DOFS, Structure
 
 __all__ = ["plot_model", "plot_shape", "plot_path", "plot_overview", "path_segments", "critical_xy",
            "shape_path_figure", "displacement_scale", "structure_size", "label_of",
-           "scale_note", "place_legend", "tidy", "finish_layout", "occupied_points"]
+           "scale_note", "place_legend", "tidy", "finish_layout", "occupied_points",
+           "plot_frequencies"]
 
 DEFORMED = "#1f5fa8"
 GHOST = "#b8b8b8"
@@ -683,3 +684,46 @@ def finish_layout(fig, rounds: int = 2) -> None:
         for ax in fig.axes:
             tidy(ax)
     fig.tight_layout()
+
+
+def plot_frequencies(path: EquilibriumPath, modes: int = 1, f=None, ax=None, lumped: bool = False,
+                     **style):
+    """Natural frequencies against the load factor along a path; returns the axes.
+
+    One curve per mode, markers at the traced points; past a loss of stability the
+    frequencies are negative (:func:`largerot.frequencies`), so the lowest curve
+    crosses zero at the path's critical points, which are marked on the λ axis.
+
+    Parameters
+    ----------
+    modes : int
+        How many of the lowest frequencies to draw.
+    f : ndarray, shape (n_points, ≥ modes), optional
+        Frequencies already computed by :func:`largerot.frequencies` (every point of
+        ``path``); computed here when not given.
+    lumped : bool
+        Lumped masses when computing them.
+    """
+    from .vibration import frequencies
+    if f is None:
+        f = frequencies(path, modes=modes, lumped=lumped)
+    f = np.asarray(f, dtype=float)
+    if f.ndim != 2 or len(f) != len(path):
+        raise ModelError(f"`f` must have shape (n_points, modes) = ({len(path)}, ...), got {f.shape}.")
+    ax = _axes(ax)
+    lam = path.load_factor
+    color = style.pop("color", DEFORMED)
+    for k in range(min(modes, f.shape[1])):        # bounded by the columns given
+        ax.plot(lam, f[:, k], marker="o", ms=3, color=color, alpha=1.0 if k == 0 else 0.55,
+                label=f"mode {k + 1}", **style)
+    for cp in path.critical_points:
+        ax.plot([cp.load_factor], [0.0], marker="D" if cp.kind == "limit" else "X",
+                color=CRITICAL, ms=8, ls="none", zorder=6)
+    ax.axhline(0.0, color=GHOST, lw=0.8)
+    ax.set_xlabel(label_of(path.structure, "lam"))
+    ax.set_ylabel("natural frequency f [Hz]")
+    ax.grid(alpha=0.3)
+    if modes > 1:
+        ax.legend(fontsize=8)
+    return ax
+

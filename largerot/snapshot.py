@@ -163,6 +163,10 @@ class Model(Labels):
     inclined_direction : ndarray, shape (n_inclined, 2)
         Unit direction each rolls along; its translation along the normal
         (−dy, dx) is fixed.
+    mass_nodes : ndarray of int, shape (n_masses,)
+        Nodes with a concentrated mass (``Structure.mass``), sorted.
+    mass_values : ndarray, shape (n_masses, 2)
+        Their mass (on both translations) and rotary inertia (on the rotation).
     """
 
     xy: np.ndarray
@@ -197,6 +201,8 @@ class Model(Labels):
     imposed_const: np.ndarray = field(default_factory=lambda: np.zeros(0))
     inclined_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
     inclined_direction: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
+    mass_nodes: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+    mass_values: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
 
     def __post_init__(self) -> None:
         for value in vars(self).values():
