@@ -437,7 +437,7 @@ def to_tables(s) -> Tables:
 
 
 # -- in ------------------------------------------------------------------------------------
-def _sections(sections, fibres, members: _Table) -> dict:
+def _sections(sections, fibres) -> dict:
     """Section objects by label."""
     from .fibres import FibreSection
     from .sections import Section
@@ -542,7 +542,7 @@ def from_tables(nodes, members, supports=None, loads=None, *, sections=None, fib
     if sections is not None:
         if "section" not in tm.columns:
             raise ModelError("The members table has no column 'section' (required with a sections table).")
-        by_label = _sections(sections, fibres, tm)
+        by_label = _sections(sections, fibres)
         member_section = []
         for i in range(len(tm)):
             k = tm.key(i, "section")
@@ -595,7 +595,7 @@ def from_tables(nodes, members, supports=None, loads=None, *, sections=None, fib
     # check every member row's references before anything is built
     ends = []
     for i in range(len(tm)):
-        a, b = node_ref_static(tm, i, "start", row_of_node, tn), node_ref_static(tm, i, "end", row_of_node, tn)
+        a, b = _end_node(tm, i, "start", row_of_node, tn), _end_node(tm, i, "end", row_of_node, tn)
         ends.append((a, b))
 
     created = {}
@@ -655,7 +655,7 @@ def from_tables(nodes, members, supports=None, loads=None, *, sections=None, fib
     return s
 
 
-def node_ref_static(t: _Table, i: int, column: str, row_of_node: dict, tn: _Table) -> int:
+def _end_node(t: _Table, i: int, column: str, row_of_node: dict, tn: _Table) -> int:
     """A member end: a node id, or the name of a node of the nodes table."""
     v = t.raw(i, column)
     if v is None:
