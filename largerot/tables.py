@@ -44,8 +44,9 @@ the row order gives the ids):
     ``pretension`` (a cable's initial tension instead), ``rise``, ``radius``,
     ``shape`` (a curved member as in :meth:`~largerot.model.Structure.arc`, when its
     interior nodes are not listed). ``segment_length`` (each element's unstretched
-    length) is written by ``to_tables`` only in the rare case where no value of
-    ``unstretched_length`` divides back exactly into the segment length.
+    length) is written by ``to_tables`` only for a cable whose
+    segment length no value of ``unstretched_length`` divides back to exactly
+    (about one cable in ten: measured on 20,000 random lengths and segment counts).
 ``supports`` (one row per support, **node** and **kind** always)
     ``kind="fix"``: ``dof`` the restrained DOFs, e.g. ``"ux uy"`` (blank: all three);
     ``kind="spring"``: ``dof``, ``value`` the stiffness;
@@ -115,7 +116,8 @@ _TEXT = ("name", "units", "kind", "shape", "dof", "hinge", "note")
 UNIT_TOL = 4.0 * np.finfo(float).eps
 _PANDAS_MAJOR = int(pd.__version__.split(".")[0])
 #: Neighbouring floats of L0·n tried for a cable's unstretched length that divides
-#: back to L0 exactly (one or two suffice in practice).
+#: back to L0 exactly; when none does (about 9 % of random cases), ``segment_length``
+#: is written instead.
 LENGTH_SEARCH = 8
 
 
