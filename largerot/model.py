@@ -873,6 +873,47 @@ class Structure(Labels):
         return {"mass_nodes": np.array(nodes, dtype=np.int64),
                 "mass_values": np.array([masses[n] for n in nodes], dtype=float).reshape(-1, 2)}
 
+    # -- tables --------------------------------------------------------------------
+    @classmethod
+    def from_tables(cls, nodes, members, supports=None, loads=None, *, sections=None,
+                    fibres=None, contacts=None, structure=None, units=None,
+                    name=None) -> "Structure":
+        """A structure from tables: pandas DataFrames or paths of CSV files.
+
+        ``Structure.from_tables(**s.to_tables())`` gives back ``s`` exactly (its
+        snapshot equal bit for bit). The columns of each table (``nodes``: id, x, y,
+        name, member; ``members``: id, kind, start, end, segments, section, name,
+        hinge, hinge_stiffness, unstretched_length...; ``sections``, ``fibres``,
+        ``supports``, ``loads``, ``contacts``, ``structure``: name and units) are
+        described in :mod:`largerot.tables`. ``sections`` may also be a dict
+        ``{id: Section or FibreSection}``; ``units`` and ``name`` may be given here
+        instead of in a ``structure`` table. Bad cells raise a ModelError naming the
+        table, the row and the column.
+
+        Examples
+        --------
+        >>> import pandas as pd, largerot as lr
+        >>> s = lr.Structure.from_tables(
+        ...     nodes=pd.DataFrame({"x": [0.0, 2.0], "y": [0.0, 0.0], "name": ["base", "tip"]}),
+        ...     members=pd.DataFrame({"start": [0], "end": [1], "segments": [8], "E": [210e9],
+        ...                           "A": [1e-3], "I": [1e-6]}),
+        ...     supports=pd.DataFrame({"node": ["base"], "kind": ["fix"]}),
+        ...     loads=pd.DataFrame({"kind": ["nodal"], "node": ["tip"], "fy": [-1e3]}))
+        >>> s.members[0].nodes
+        (0, 2, 3, 4, 5, 6, 7, 8, 1)
+        """
+        from .tables import from_tables
+        return from_tables(nodes, members, supports, loads, sections=sections, fibres=fibres,
+                           contacts=contacts, structure=structure, units=units, name=name)
+
+    def to_tables(self):
+        """The structure as tables: a :class:`largerot.tables.Tables`, a dict of DataFrames
+        (``structure``, ``nodes``, ``sections``, ``fibres``, ``members``, ``supports``,
+        ``loads``, ``contacts``; columns in :mod:`largerot.tables`) that
+        :meth:`from_tables` takes back; ``.to_csv(folder)`` writes them."""
+        from .tables import to_tables
+        return to_tables(self)
+
     # -- snapshot and copies ----------------------------------------------------
     def snapshot(self) -> Model:
         """The structure as it is now, frozen: what a trace and its path work on.

@@ -33,6 +33,21 @@ def two_nodes():
     return s, s.node(0.0, 0.0), s.node(1.0, 0.0)
 
 
+def from_tables(table: str, edit):
+    """The cantilever's tables with one table edited by ``edit(frame)``, built back."""
+    t = cantilever().to_tables()
+    t[table] = edit(t[table].copy())
+    return lr.Structure.from_tables(**t)
+
+
+def _set(column, row, value):
+    def edit(frame):
+        frame[column] = frame[column].astype(object)
+        frame.loc[row, column] = value
+        return frame
+    return edit
+
+
 @pytest.fixture(scope="module")
 def path():
     return lr.trace(cantilever(), lr.by_load(0.1), max_steps=2)
@@ -143,6 +158,43 @@ ROWS = [
     ("line load on unknown member", lambda: cantilever().line_load(7, qy=1.0), lr.ModelError, "Unknown member 7"),
     ("moved to 1e300", lambda: cantilever().moved([[0.0, 0.0], [1e300, 0.0]]), lr.ModelError,
      "Node 1 would move to a non-finite position"),
+    # tables (Structure.from_tables): the table, the row and the column named
+    ("table member unknown node", lambda: from_tables("members", _set("end", 0, 7)), lr.ModelError,
+     "members table, row 0, column 'end': unknown node 7"),
+    ("table missing column", lambda: from_tables("nodes", lambda f: f.drop(columns="y")), lr.ModelError,
+     "The nodes table has no column 'y' (required)"),
+    ("table duplicate node id", lambda: from_tables("nodes", _set("id", 1, 0)), lr.ModelError,
+     "nodes table, row 1, column 'id': duplicate id 0 (also row 0)"),
+    ("table node ids from 1", lambda: from_tables("nodes", lambda f: f.assign(id=f["id"] + 1)),
+     lr.ModelError, "nodes table, row 1, column 'id': node ids must be 0, 1, …, 1"),
+    ("table coordinate not a number", lambda: from_tables("nodes", _set("x", 1, "one")), lr.ModelError,
+     "nodes table, row 1, column 'x': expected a number, got 'one'"),
+    ("table blank coordinate", lambda: from_tables("nodes", _set("y", 0, None)), lr.ModelError,
+     "nodes table, row 0, column 'y': a value is required"),
+    ("table unknown column", lambda: from_tables("members", lambda f: f.assign(hinge_stifness=1.0)),
+     lr.ModelError, "The members table has an unknown column 'hinge_stifness'"),
+    ("table unknown section", lambda: from_tables("members", _set("section", 0, "tube")), lr.ModelError,
+     "members table, row 0, column 'section': unknown section 'tube'"),
+    ("table unknown member kind", lambda: from_tables("members", _set("kind", 0, "rope")), lr.ModelError,
+     "members table, row 0, column 'kind': expected one of 'beam', 'bar', 'cable', got 'rope'"),
+    ("table segments 2.5", lambda: from_tables("members", _set("segments", 0, 2.5)), lr.ModelError,
+     "members table, row 0, column 'segments': expected a whole number, got 2.5"),
+    ("table unknown support kind", lambda: from_tables("supports", _set("kind", 0, "clamp")), lr.ModelError,
+     "supports table, row 0, column 'kind': expected one of 'fix', 'spring', 'impose', 'roller'"),
+    ("table support unknown dof", lambda: from_tables("supports", _set("dof", 0, "ux uz")), lr.ModelError,
+     "supports table, row 0, column 'dof': unknown DOF 'uz'"),
+    ("table load on unknown node", lambda: from_tables("loads", _set("node", 0, 9)), lr.ModelError,
+     "loads table, row 0, column 'node': unknown node 9"),
+    ("table load flag not a bool", lambda: from_tables("loads", _set("constant", 0, "maybe")), lr.ModelError,
+     "loads table, row 0, column 'constant': expected True or False, got 'maybe'"),
+    ("table section E negative", lambda: from_tables("sections", _set("E", 0, -1.0)), lr.ModelError,
+     "sections table, row 0: Section `E` must be a finite positive number, got -1.0"),
+    ("table member error from the builder", lambda: from_tables("members", _set("end", 0, 0)),
+     lr.ModelError, "members table, row 0: Member 0 (nodes 0→0) joins a node to itself"),
+    ("table not a frame", lambda: lr.Structure.from_tables([[0, 0]], None), TypeError,
+     "The nodes table must be a pandas DataFrame or the path of a CSV file, got list"),
+    ("table csv missing", lambda: lr.Structure.from_tables("no-such-nodes.csv", None), lr.ModelError,
+     "The nodes table: no file 'no-such-nodes.csv'"),
     # sections
     ("Section E as str", lambda: lr.Section(E="200e9", A=1.0), TypeError, "Section `E` must be a number, got '200e9'"),
     ("Section EA overflows", lambda: lr.Section(E=1e300, A=1e10), lr.ModelError, "stiffness EA"),
