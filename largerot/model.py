@@ -876,7 +876,7 @@ class Structure(Labels):
     # -- tables --------------------------------------------------------------------
     @classmethod
     def from_tables(cls, nodes, members, supports=None, loads=None, *, sections=None,
-                    fibres=None, contacts=None, structure=None, units=None,
+                    fibres=None, contacts=None, masses=None, structure=None, units=None,
                     name=None) -> "Structure":
         """A structure from tables: pandas DataFrames or paths of CSV files.
 
@@ -884,7 +884,7 @@ class Structure(Labels):
         snapshot equal bit for bit). The columns of each table (``nodes``: id, x, y,
         name, member; ``members``: id, kind, start, end, segments, section, name,
         hinge, hinge_stiffness, unstretched_length...; ``sections``, ``fibres``,
-        ``supports``, ``loads``, ``contacts``, ``structure``: name and units) are
+        ``supports``, ``loads``, ``contacts``, ``masses``, ``structure``: name and units) are
         described in :mod:`largerot.tables`. ``sections`` may also be a dict
         ``{id: Section or FibreSection}``; ``units`` and ``name`` may be given here
         instead of in a ``structure`` table. Bad cells raise a ModelError naming the
@@ -904,12 +904,13 @@ class Structure(Labels):
         """
         from .tables import from_tables
         return from_tables(nodes, members, supports, loads, sections=sections, fibres=fibres,
-                           contacts=contacts, structure=structure, units=units, name=name)
+                           contacts=contacts, masses=masses, structure=structure, units=units,
+                           name=name)
 
     def to_tables(self):
         """The structure as tables: a :class:`largerot.tables.Tables`, a dict of DataFrames
         (``structure``, ``nodes``, ``sections``, ``fibres``, ``members``, ``supports``,
-        ``loads``, ``contacts``; columns in :mod:`largerot.tables`) that
+        ``loads``, ``contacts``, ``masses``; columns in :mod:`largerot.tables`) that
         :meth:`from_tables` takes back; ``.to_csv(folder)`` writes them."""
         from .tables import to_tables
         return to_tables(self)

@@ -65,6 +65,9 @@ full value, default False)
     an obstacle of its own), **shape** (``"line"`` or ``"circle"``), **x**, **y**
     (a point of the line or the centre), ``nx``, ``ny`` (the line's normal, toward
     the free side), ``radius`` (the circle's).
+``masses``
+    **node**, **m** (concentrated mass on both translations), ``inertia`` (rotary,
+    blank: 0): the nodal masses of ``Structure.mass`` (dynamics only).
 
 Any table may also be the path of a CSV file. :meth:`Tables.to_csv` writes all of
 them to a folder with 17 significant digits (``float_format="%.17g"``), so floats
@@ -89,7 +92,8 @@ __all__ = ["Tables", "to_tables", "from_tables", "TABLES", "COLUMNS", "FLOAT_FOR
 FLOAT_FORMAT = "%.17g"
 
 #: The tables, in the order they are written.
-TABLES = ("structure", "nodes", "sections", "fibres", "members", "supports", "loads", "contacts")
+TABLES = ("structure", "nodes", "sections", "fibres", "members", "supports", "loads", "contacts",
+          "masses")
 
 #: Known columns of each table; any other column is refused (a misspelt column
 #: would otherwise be ignored without a word). ``note`` is free text in any table.
@@ -107,6 +111,7 @@ COLUMNS = {
     "loads": ("kind", "node", "member", "fx", "fy", "mz", "qx", "qy", "normal", "tangential",
               "g", "dx", "dy", "constant"),
     "contacts": ("node", "obstacle", "shape", "x", "y", "nx", "ny", "radius"),
+    "masses": ("node", "m", "inertia"),
 }
 _SECTION_COLUMNS = ("E", "A", "I", "density", "fy", "depth", "G", "shear_area", "shear_factor")
 #: Columns that hold text (read from CSV as text, so a name "12" stays a name).
@@ -433,9 +438,12 @@ def to_tables(s) -> Tables:
         else:
             contact_rows.append((n, k, "circle", o.centre[0], o.centre[1], None, None, o.radius))
     contacts = _frame(contact_rows, COLUMNS["contacts"], ints=("node", "obstacle"))
+    masses = _frame([(n, m, j) for n, (m, j) in sorted(s.masses().items())], COLUMNS["masses"],
+                    ints=("node",))
     structure = pd.DataFrame({"name": [s.name or None], "units": [s.units.system]})
     return Tables(structure=structure, nodes=nodes, sections=sections, fibres=fibres,
-                  members=members, supports=supports, loads=loads, contacts=contacts)
+                  members=members, supports=supports, loads=loads, contacts=contacts,
+                  masses=masses)
 
 
 # -- in ------------------------------------------------------------------------------------
@@ -512,7 +520,7 @@ def _inline_sections(members: _Table) -> list:
 
 
 def from_tables(nodes, members, supports=None, loads=None, *, sections=None, fibres=None,
-                contacts=None, structure=None, units=None, name=None):
+                contacts=None, masses=None, structure=None, units=None, name=None):
     """Build a Structure from tables; see the module notes for the columns."""
     from .model import Structure
     st = _Table("structure", structure)
@@ -654,6 +662,10 @@ def from_tables(nodes, members, supports=None, loads=None, *, sections=None, fib
         if kind != "gravity":
             _load(s, tl, i, kind, node_ref)
     _contacts(s, _Table("contacts", contacts, ("node", "shape", "x", "y")), node_ref)
+    tm = _Table("masses", masses, ("node", "m"))
+    for i in range(len(tm)):
+        _wrap(tm.where(i), s.mass, node_ref(tm, i, "node"), tm.number(i, "m", required=True),
+              tm.number(i, "inertia", 0.0))
     return s
 
 

@@ -109,6 +109,8 @@ def arcs_and_timoshenko():
     s.impose(b, "uy", 0.003)
     s.load(s.members[0].nodes[4], fx=1.0, follower=True)
     s.load(s.members[1].nodes[2], fy=-0.5, follower=True, constant=True)
+    s.mass(b, 120.0, inertia=3.5)                                  # a payload (dynamics)
+    s.mass("a", 0.25)
     return s
 
 
