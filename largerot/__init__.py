@@ -16,6 +16,8 @@ from .storage import FileFormatError, load, save
 from .sweep import grid, sweep
 from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, resume, run, trace
 from .buckling import Buckling, buckling, imperfect
+from .motion import Motion
+from .solvers.transient import ramp_load, rayleigh, step_load, transient
 from . import plotting
 
 
@@ -30,4 +32,5 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "InputWarning", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "trace", "iterate", "STATUS", "Model", "Units", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]
+           "imperfect", "trace", "iterate", "STATUS", "Model", "Units", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__",
+           "transient", "Motion", "step_load", "ramp_load", "rayleigh"]
