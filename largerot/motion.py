@@ -32,7 +32,8 @@ class Motion(_Displacements):
     external : ndarray, shape (n_steps,)
         Work of the applied loads since the start, ∫ F·du (trapezoidal rule).
     damping : ndarray, shape (n_steps,)
-        Energy taken by the Rayleigh damping, ∫ vᵀ·C·v dt (trapezoidal rule).
+        Energy taken by the Rayleigh damping: the work of the damping forces the
+        scheme applied, Σ Δu·C·v₁₋αf (∫ vᵀ·C·v dt to O(Δt²)).
     status, status_code, message
         As for paths (:data:`largerot.STATUS`): ``"target"`` when the end time was
         reached, ``"failed"``, ``"max_steps"`` or ``"interrupted"``.

@@ -473,7 +473,8 @@ def transient(structure, duration: float, *, dt: float | None = None, start=None
             W_ext = state["W_ext"] + 0.5 * float(du @ (state["F"] + F1))
             W_damp = state["W_damp"]
             if C is not None:
-                W_damp += 0.5 * h_try * float(state["v"] @ (C @ state["v"]) + v1 @ (C @ v1))
+                # the work of the damping forces the balance applied, C·v₁₋αf
+                W_damp += float(du @ (C @ ((1.0 - params[1]) * v1 + params[1] * state["v"])))
             kin = 0.5 * float(v1 @ (M @ v1))
             steps.append((t1, lam1, u1.copy(), v1, acc1, int(res.iterations), kin,
                           W_int, W_ext, W_damp))           # the commit
