@@ -17,6 +17,8 @@ from .sweep import grid, sweep
 from .solvers import STATUS, by_arc_length, by_displacement, by_load, iterate, resume, run, trace
 from .buckling import Buckling, buckling, imperfect
 from .vibration import frequencies
+from .motion import Motion
+from .solvers.transient import ramp_load, rayleigh, step_load, transient
 from . import plotting
 
 
@@ -31,4 +33,5 @@ __version__ = "0.1.0"
 
 __all__ = ["ModelError", "InputWarning", "Structure", "Member", "Section", "FibreSection", "Line", "Circle",
            "DOFS", "EquilibriumPath", "Point", "CriticalPoint", "Event", "run", "by_load", "by_displacement", "by_arc_length", "buckling", "Buckling",
-           "imperfect", "frequencies", "trace", "iterate", "STATUS", "Model", "Units", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__"]
+           "imperfect", "frequencies", "trace", "iterate", "STATUS", "Model", "Units", "MeshWarning", "FileFormatError", "save", "load", "resume", "sweep", "grid", "plotting", "widgets", "__version__",
+           "transient", "Motion", "step_load", "ramp_load", "rayleigh"]

@@ -278,7 +278,7 @@ def load(filename, kind: str | None = None):
     Parameters
     ----------
     filename : str or path
-    kind : {"structure", "path", "checkpoint"}, optional
+    kind : {"structure", "path", "checkpoint", "motion"}, optional
         Demand this kind of object (a :class:`FileFormatError` otherwise).
 
     Returns
