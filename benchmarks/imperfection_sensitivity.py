@@ -18,6 +18,7 @@ from pathlib import Path
 
 import numpy as np
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))            # this checkout's largerot
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 import largerot as lr  # noqa: E402
