@@ -73,14 +73,26 @@ def grid(**values) -> list[dict]:
 def default_summary(path, params: dict) -> dict:
     """One row of a path: status, message, points, the load factor of its first critical
     point (the peak a structure reaches by load) and of its first limit point and first
-    bifurcation, final λ, the largest displacement with its node and DOF."""
+    bifurcation, final λ, the largest displacement with its node and DOF.
+
+    A critical point whose search failed (``located`` False: its λ is only the midpoint
+    of the two converged points around it) gives no load factor: its column is NaN and
+    ``first_critical_located`` is False. Such a bracket is typically a long arc-length
+    step that jumped across a sharp turn of the path (an imperfect structure near its
+    perfect twin's bifurcation) onto a neighbouring branch; a smaller ``max_step``
+    locates it (``benchmarks/imperfection_sensitivity.py`` retraces those cases).
+    """
     row = {"status": path.status, "message": path.message, "points": len(path),
            "final_load_factor": float(path.load_factor[-1]) if len(path) else math.nan}
     crit = path.critical_points
-    row["first_critical"] = float(crit[0].load_factor) if crit else math.nan
+
+    def load(c) -> float:
+        return float(c.load_factor) if c.located else math.nan
+    row["first_critical"] = load(crit[0]) if crit else math.nan
+    row["first_critical_located"] = bool(crit[0].located) if crit else True
     for kind in ("limit", "bifurcation"):
-        first = [c.load_factor for c in crit if c.kind == kind]
-        row[f"first_{kind}"] = float(first[0]) if first else math.nan
+        first = [c for c in crit if c.kind == kind]
+        row[f"first_{kind}"] = load(first[0]) if first else math.nan
     u = path.u
     trans = np.zeros(u.shape[1], bool)
     trans[0::3] = trans[1::3] = True
