@@ -15,7 +15,9 @@ same sweep serially.
 The speed-up is serial time over parallel time (goal ≥ 1.7× on a 2-core machine); the
 overhead per case is (workers × parallel time − serial time) / cases. The machine's
 load average is printed with each repeat: other processes on the same cores lower the
-parallel side's speed-up and not the serial one's.
+parallel side's speed-up and not the serial one's. The CPU time per case (this process
+with its Dask scheduler, plus the workers) does not depend on that load: its excess
+over the serial CPU time is the overhead the executor adds.
 
 Usage: ``python benchmarks/sweep_speed.py [--cases 200] [--finest 16] [--repeats 3]``.
 """
@@ -48,30 +50,45 @@ sweep_module = importlib.import_module("largerot.sweep")   # lr.sweep is the fun
 WORKERS = 2
 
 
-def timed(cases, **options):
+def _cpu_now(client) -> float:
+    """CPU seconds used so far by this process (client and, for a LocalCluster, its
+    scheduler) and by the Dask workers, if any."""
+    workers = sum(client.run(time.process_time).values()) if client is not None else 0.0
+    return time.process_time() + workers
+
+
+def timed(cases, cpu: dict, side: str, client=None, **options):
+    """Wall time of the whole ``lr.sweep`` call; its CPU time (here and on the Dask
+    workers) goes into ``cpu[side]``: that one does not depend on other processes'
+    load, so it shows the overhead even when the cores are shared."""
+    c = _cpu_now(client)
     t = time.perf_counter()
     table = lr.sweep(sweep_cases.arch, cases, lr.by_arc_length(), max_steps=40, progress=False,
                      **options)
-    return time.perf_counter() - t, table
+    wall = time.perf_counter() - t
+    cpu[side] = _cpu_now(client) - c
+    return wall, table
 
 
 def one_repeat(cases) -> dict:
     import distributed
     load = os.getloadavg()[0]
-    t_serial, serial = timed(cases)
-    out = {"serial": t_serial}
+    cpu: dict = {}
+    t_serial, serial = timed(cases, cpu, "serial")
+    out = {"serial": t_serial, "cpu": cpu}
     with ProcessPoolExecutor(WORKERS) as pool:
-        out["pool"], pooled = timed(cases, executor=pool)
+        out["pool"], pooled = timed(cases, cpu, "pool", executor=pool)
     with distributed.LocalCluster(n_workers=WORKERS, threads_per_worker=1, processes=True,
                                   host="127.0.0.1", dashboard_address=None) as cluster, \
             distributed.Client(cluster) as client:
         client.submit(sum, [1]).result()                   # workers up before the clock
-        out["dask cold"], dask = timed(cases, executor=client)
-        out["dask warm"], _ = timed(cases, executor=client)
+        out["dask cold"], dask = timed(cases, cpu, "dask cold", client, executor=client)
+        out["dask warm"], _ = timed(cases, cpu, "dask warm", client, executor=client)
         saved = sweep_module.BATCH_SECONDS
         sweep_module.BATCH_SECONDS = 0                     # one case per task
         try:
-            out["dask warm, 1 case/task"], _ = timed(cases, executor=client)
+            out["dask warm, 1 case/task"], _ = timed(cases, cpu, "dask warm, 1 case/task", client,
+                                                     executor=client)
         finally:
             sweep_module.BATCH_SECONDS = saved
     numbers = serial.drop(columns="wall_time")
@@ -104,6 +121,10 @@ def main() -> None:
             line.append(f"{side} {r[side]:.2f} s = {ratio:.2f}× ({1e3 * overhead:+.1f} ms/case)")
         print("; ".join(line) + f"; same tables: {r['same']}; load average "
               f"{r['load'][0]:.2f} → {r['load'][1]:.2f}")
+        cpu = r["cpu"]
+        print("    CPU per case: " + ", ".join(
+            f"{side} {1e3 * cpu[side] / n:.1f} ms" for side in cpu if side != "pool")
+            + f" (Dask: workers + this process with its scheduler; the pool's workers not counted)")
     for side, v in ratios.items():
         print(f"{side}: speed-up {min(v):.2f}–{max(v):.2f}× over {len(v)} repeats "
               f"(median {float(np.median(v)):.2f}×; goal ≥ 1.7×)")
