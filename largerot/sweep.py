@@ -4,7 +4,9 @@
 (``build(**params)``), traces it with ``control`` and reduces the path to one row of a
 pandas DataFrame (``summary(path, params)``, by default :func:`default_summary`).
 Work is shipped as (build function, parameters) and rebuilt where it runs; only rows
-(and, with ``store``, files) come back, never live objects. A case that raises, has
+(and, with ``store``, files) come back, never live objects. Cases travel to an executor
+in batches of about ``BATCH_SECONDS`` of work, sized from the cases already measured
+and shrinking toward the end so that the workers finish together. A case that raises, has
 bad parameters or runs past ``case_timeout`` becomes a row saying so; it never ends
 the sweep.
 
@@ -35,15 +37,16 @@ from .errors import ModelError
 
 __all__ = ["sweep", "grid", "default_summary", "CASE_STATUSES"]
 
-#: Row statuses besides the trace's own (``target``, ``limit``, ``failed``...).
 #: Seconds of work aimed at per batch shipped to an executor: a task costs the executor a
-#: few ms (Dask: 5-7 ms a task measured on 2 local workers, scheduler included), so a
-#: batch of about a second keeps that near 1 % while the progress bar still moves.
+#: few ms (Dask: about 7 ms a task measured on 2 local workers, scheduler included, with
+#: the cores shared), so a batch of about a second keeps that near 1 % while the progress
+#: bar still moves.
 BATCH_SECONDS = 1.0
 #: Batches kept in flight per worker: one running and one queued behind it, so a worker
 #: never waits for the next batch to be sent.
 BATCHES_PER_WORKER = 2
 
+#: Row statuses besides the trace's own (``target``, ``limit``, ``failed``...).
 CASE_STATUSES = {
     "bad parameters": "build(**params) refused the parameters (ModelError, TypeError or ValueError).",
     "error": "building or tracing raised an exception; the message holds it.",
