@@ -4,7 +4,9 @@
 (``build(**params)``), traces it with ``control`` and reduces the path to one row of a
 pandas DataFrame (``summary(path, params)``, by default :func:`default_summary`).
 Work is shipped as (build function, parameters) and rebuilt where it runs; only rows
-(and, with ``store``, files) come back, never live objects. A case that raises, has
+(and, with ``store``, files) come back, never live objects. Cases travel to an executor
+in batches of about ``BATCH_SECONDS`` of work, sized from the cases already measured
+and shrinking toward the end so that the workers finish together. A case that raises, has
 bad parameters or runs past ``case_timeout`` becomes a row saying so; it never ends
 the sweep.
 
@@ -34,6 +36,15 @@ import numpy as np
 from .errors import ModelError
 
 __all__ = ["sweep", "grid", "default_summary", "CASE_STATUSES"]
+
+#: Seconds of work aimed at per batch shipped to an executor: a task costs the executor a
+#: few ms (Dask: about 7 ms a task measured on 2 local workers, scheduler included, with
+#: the cores shared), so a batch of about a second keeps that near 1 % while the progress
+#: bar still moves.
+BATCH_SECONDS = 1.0
+#: Batches kept in flight per worker: one running and one queued behind it, so a worker
+#: never waits for the next batch to be sent.
+BATCHES_PER_WORKER = 2
 
 #: Row statuses besides the trace's own (``target``, ``limit``, ``failed``...).
 CASE_STATUSES = {
@@ -65,14 +76,26 @@ def grid(**values) -> list[dict]:
 def default_summary(path, params: dict) -> dict:
     """One row of a path: status, message, points, the load factor of its first critical
     point (the peak a structure reaches by load) and of its first limit point and first
-    bifurcation, final λ, the largest displacement with its node and DOF."""
+    bifurcation, final λ, the largest displacement with its node and DOF.
+
+    A critical point whose search failed (``located`` False: its λ is only the midpoint
+    of the two converged points around it) gives no load factor: its column is NaN and
+    ``first_critical_located`` is False. Such a bracket is typically a long arc-length
+    step that jumped across a sharp turn of the path (an imperfect structure near its
+    perfect twin's bifurcation) onto a neighbouring branch; a smaller ``max_step``
+    locates it (``benchmarks/imperfection_sensitivity.py`` retraces those cases).
+    """
     row = {"status": path.status, "message": path.message, "points": len(path),
            "final_load_factor": float(path.load_factor[-1]) if len(path) else math.nan}
     crit = path.critical_points
-    row["first_critical"] = float(crit[0].load_factor) if crit else math.nan
+
+    def load(c) -> float:
+        return float(c.load_factor) if c.located else math.nan
+    row["first_critical"] = load(crit[0]) if crit else math.nan
+    row["first_critical_located"] = bool(crit[0].located) if crit else True
     for kind in ("limit", "bifurcation"):
-        first = [c.load_factor for c in crit if c.kind == kind]
-        row[f"first_{kind}"] = float(first[0]) if first else math.nan
+        first = [c for c in crit if c.kind == kind]
+        row[f"first_{kind}"] = load(first[0]) if first else math.nan
     u = path.u
     trans = np.zeros(u.shape[1], bool)
     trans[0::3] = trans[1::3] = True
@@ -146,6 +169,62 @@ def run_case(build: Callable, params: dict, control, summary: Callable | None, t
     return row
 
 
+def run_cases(build: Callable, batch: list, control, summary: Callable | None, trace_options: dict,
+              case_timeout: float | None, store: str | None) -> list:
+    """Run a batch of cases, ``[(index, params), ...]``, one after the other; returns
+    ``[(index, row), ...]``. The unit shipped to an executor: one task per batch, not
+    per case."""
+    return [(i, run_case(build, params, control, summary, trace_options, case_timeout, store, i))
+            for i, params in batch]
+
+
+def _n_workers(executor) -> int:
+    """Cases the executor runs at once: a Dask client's threads, a pool's workers."""
+    try:
+        if _is_dask_client(executor):
+            return max(1, sum(executor.nthreads().values()))
+        return max(1, int(getattr(executor, "_max_workers", None) or os.cpu_count() or 1))
+    except Exception:                       # an executor that cannot say: treat as one
+        return 1
+
+
+def _batch_size(remaining: int, n_workers: int, case_seconds: float | None) -> int:
+    """Cases in the next batch: about BATCH_SECONDS of work once a case's duration is
+    known (one case until then), and never more than a share of what remains, so the
+    batches shrink toward the end and the workers finish together (guided scheduling).
+
+    >>> _batch_size(200, 2, 0.08), _batch_size(200, 2, None), _batch_size(10, 2, 0.08)
+    (12, 1, 3)
+    """
+    share = max(1, math.ceil(remaining / (BATCHES_PER_WORKER * n_workers)))
+    if case_seconds is None:
+        return 1
+    return max(1, min(share, int(BATCH_SECONDS / max(case_seconds, 1e-6))))
+
+
+def _run_batched(executor, submit, wait_first, todo: list, args_of, done) -> None:
+    """Keep BATCHES_PER_WORKER batches per worker in flight until ``todo`` is done,
+    each sized by :func:`_batch_size` from the cases' measured wall times."""
+    n_workers = _n_workers(executor)
+    queue = list(todo)
+    pending: dict = {}
+    times: list = []
+    for _ in range(len(todo) + 1):           # every pass submits or completes >= 1 case
+        while queue and len(pending) < BATCHES_PER_WORKER * n_workers:
+            mean = float(np.mean(times)) if times else None
+            n = _batch_size(len(queue), n_workers, mean)
+            batch, queue = queue[:n], queue[n:]
+            pending[submit(args_of(batch))] = batch
+        if not pending:
+            return
+        for fut in wait_first(list(pending)):
+            batch = pending.pop(fut)
+            for i, row in _batch_result(fut, batch):
+                if np.isfinite(row.get("wall_time", math.nan)):
+                    times.append(row["wall_time"])
+                done(i, row)
+
+
 def _is_dask_client(executor) -> bool:
     return type(executor).__module__.split(".")[0] == "distributed" and hasattr(executor, "gather")
 
@@ -217,6 +296,9 @@ def sweep(build: Callable, cases, control, *, summary: Callable | None = None, e
 
     def args(i: int) -> tuple:
         return build, cases[i], control, summary, trace_options, case_timeout, store_arg, i
+
+    def batch_args(batch: list) -> tuple:
+        return build, [(i, cases[i]) for i in batch], control, summary, trace_options, case_timeout, store_arg
     bar = tqdm(total=len(cases), initial=len(cases) - len(todo), desc="cases", unit="case",
                disable=not progress)
 
@@ -232,14 +314,14 @@ def sweep(build: Callable, cases, control, *, summary: Callable | None = None, e
             for i in todo:
                 done(i, run_case(*args(i)))
         elif _is_dask_client(executor):
-            from distributed import as_completed
-            futures = {executor.submit(run_case, *args(i), pure=False): i for i in todo}
-            for fut in as_completed(futures):
-                done(futures[fut], _result(fut))
+            import distributed
+            _run_batched(executor, lambda a: executor.submit(run_cases, *a, pure=False),
+                         lambda fs: distributed.wait(fs, return_when="FIRST_COMPLETED").done,
+                         todo, batch_args, done)
         elif isinstance(executor, concurrent.futures.Executor):
-            futures = {executor.submit(run_case, *args(i)): i for i in todo}
-            for fut in concurrent.futures.as_completed(futures):
-                done(futures[fut], _result(fut))
+            _run_batched(executor, lambda a: executor.submit(run_cases, *a),
+                         lambda fs: concurrent.futures.wait(fs, return_when="FIRST_COMPLETED").done,
+                         todo, batch_args, done)
         else:
             raise TypeError(f"`executor` must be None, a concurrent.futures.Executor or a Dask "
                             f"distributed.Client, got {executor!r}.")
@@ -251,9 +333,11 @@ def sweep(build: Callable, cases, control, *, summary: Callable | None = None, e
     return pd.concat([params_frame, summary_frame], axis=1)
 
 
-def _result(fut) -> dict:
-    """A case's row; a worker lost or a result that cannot come back becomes an error row."""
+def _batch_result(fut, batch: list) -> list:
+    """A batch's ``(index, row)`` pairs; a worker lost or a result that cannot come back
+    makes every case of the batch an error row."""
     try:
         return fut.result()
     except Exception as exc:
-        return {"status": "error", "message": f"{type(exc).__name__}: {exc}", "wall_time": math.nan}
+        row = {"status": "error", "message": f"{type(exc).__name__}: {exc}", "wall_time": math.nan}
+        return [(i, dict(row)) for i in batch]

@@ -98,7 +98,13 @@ def test_the_sweep_panel_opens_stored_and_retraced_cases(tmp_path):
                      **OPTIONS)
     panel = lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise",
                                    y="first_limit", by="segments", store=tmp_path, **OPTIONS)
-    assert panel.plot.value[:4] == b"\x89PNG" and len(panel.case.options) == 4
+    assert len(panel.case.options) == 4
+    # the plot gets the table's numbers: one curve per mesh, a point per case
+    assert [c["label"] for c in panel.plot.series] == ["segments = 8", "segments = 12"]
+    pts = {p[0]: p for c in panel.plot.series for p in c["points"]}
+    assert sorted(pts) == [0, 1, 2, 3]
+    assert pts[3][1:3] == [table.loc[3, "rise"], table.loc[3, "first_limit"]]
+    assert "rise=0.25" in pts[3][3]
     panel.case.value = 2
     panel.open_button.click()
     stored = lr.load(tmp_path / "case-00002.lr")
@@ -107,10 +113,60 @@ def test_the_sweep_panel_opens_stored_and_retraced_cases(tmp_path):
     # without the store the case is re-traced: the same path (the trace is deterministic)
     fresh = lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise",
                                    y="first_limit", **OPTIONS)
-    np.testing.assert_array_equal(fresh.open(2).u, stored.u)
+    np.testing.assert_array_equal(fresh.open_case(2).u, stored.u)
     assert "re-traced" in fresh.status.value
     with pytest.raises(lr.ModelError, match="`y` names no column.*'nope'"):
         lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise", y="nope")
+
+
+def test_a_click_on_a_plotted_point_opens_its_case(tmp_path):
+    # the browser sends {"event": "click", "case": i} (sweep_plot.js); here the message
+    # arrives through the widget's own message route, as from the front end
+    pytest.importorskip("anywidget")
+    cases = lr.grid(rise=[0.15, 0.25], segments=[8])
+    table = lr.sweep(sweep_cases.arch, cases, lr.by_arc_length(), store=tmp_path, progress=False,
+                     **OPTIONS)
+    panel = lr.widgets.sweep_panel(table, sweep_cases.arch, lr.by_arc_length(), x="rise",
+                                   y="first_limit", store=tmp_path, **OPTIONS)
+    assert panel.plot.chosen == 0 and panel.path is None
+    panel.plot._handle_custom_msg({"event": "click", "case": 1}, [])
+    assert panel.case.value == 1 and panel.plot.chosen == 1     # the list and the mark follow
+    np.testing.assert_array_equal(panel.path.u, lr.load(tmp_path / "case-00001.lr").u)
+    assert panel.explorer.path is panel.path and "case 1 (loaded" in panel.status.value
+    # a click on a case the table does not have is shown in the panel, not raised
+    panel.plot._handle_custom_msg({"event": "click", "case": 7}, [])
+    assert "no case 7" in panel.error and panel.case.value == 1
+    panel.plot._handle_custom_msg({"event": "hover", "case": 0}, [])    # not a click: ignored
+    assert panel.case.value == 1
+
+
+def test_an_unlocated_critical_point_gives_no_load_in_the_summary():
+    # The rise-0.5 m arch moved 0.151 mm along its first buckling mode: the default
+    # arc-length step (0.79 m there) jumps across the sharp turn at the limit point onto
+    # the neighbouring branch (λ = 1181 there, above the perfect arch's bifurcation at
+    # 1179.6), the search between the two branches fails, and the critical point is
+    # reported with located False and the midpoint λ 1103 (measured). The summary must
+    # not report that midpoint as a load.
+    structure = sweep_cases.imperfect_arch(amplitude=1.51e-4, rise=0.5)
+    path = lr.trace(structure, lr.by_arc_length(), max_steps=8)
+    assert path.critical_points and not path.critical_points[0].located
+    row = lr.sweep(sweep_cases.imperfect_arch, [dict(amplitude=1.51e-4, rise=0.5)],
+                   lr.by_arc_length(), progress=False, max_steps=8).iloc[0]
+    assert np.isnan(row["first_critical"]) and np.isnan(row["first_limit"])
+    assert not row["first_critical_located"]
+    # with the step bounded the limit point is located, and it lies below the perfect
+    # arch's bifurcation load: an imperfect structure whose perfect twin has an unstable
+    # symmetric bifurcation reaches a limit below that load (Koiter 1945; Thompson & Hunt
+    # 1973, ch. 3), and above the last converged point before it (a maximum of λ)
+    lam_c = lr.sweep(sweep_cases.imperfect_arch, [dict(amplitude=0.0, rise=0.5)],
+                     lr.by_arc_length(), progress=False, max_steps=10).loc[0, "first_bifurcation"]
+    bounded = lr.trace(structure, lr.by_arc_length(max_step=0.25), max_steps=30)
+    first = bounded.critical_points[0]
+    row = lr.sweep(sweep_cases.imperfect_arch, [dict(amplitude=1.51e-4, rise=0.5)],
+                   lr.by_arc_length(max_step=0.25), progress=False, max_steps=30).iloc[0]
+    assert first.located and first.kind == "limit" and row["first_critical_located"]
+    assert row["first_critical"] == first.load_factor
+    assert bounded.load_factor[first.index] < first.load_factor < lam_c
 
 
 def test_imperfection_sensitivity_follows_koiters_two_thirds_law():

@@ -7,27 +7,68 @@ value of a second parameter; a chosen case opens in the path explorer.
 
 The case is loaded from the sweep's ``store`` when it was saved there, otherwise
 rebuilt (``build(**params)``) and re-traced with the same control and options. The
-plot is a static image (it needs no interactive matplotlib backend); the case is
-chosen in the list below it, and the plot marks it.
+plot is a small anywidget (:class:`SweepPlot`, SVG drawn in the browser from the
+table's numbers): hovering a point shows its case, clicking it opens the case. The
+list below the plot is the keyboard route to the same cases; the plot marks the
+chosen one.
 """
 from __future__ import annotations
 
-import io
+import logging
 import math
+import pathlib
 from pathlib import Path
 
+import anywidget
 import ipywidgets as w
 import numpy as np
+import traitlets as t
 
 from ..errors import ModelError
 from ..solvers.controls import StepControl, trace
 from ..storage import load
+from ._errors import shown_in_widget
 from .explorer import Explorer
 
-__all__ = ["SweepPanel", "sweep_panel"]
+__all__ = ["SweepPanel", "SweepPlot", "sweep_panel"]
 
-#: Size of the plot, inches at 100 dpi.
-FIGSIZE = (6.0, 3.6)
+log = logging.getLogger(__name__)
+
+#: Size of the plot in CSS pixels (the legend takes the right 150).
+PLOT_SIZE = (760, 360)
+
+
+class SweepPlot(anywidget.AnyWidget):
+    """Curves of a sweep's summary column, drawn as SVG in the browser; a click on a
+    point sends its case index back (``on_click``)."""
+
+    _esm = pathlib.Path(__file__).with_name("sweep_plot.js")
+
+    series = t.List([], help="Curves: dicts {label, points: [[case, x, y, tip], ...]}.").tag(sync=True)
+    chosen = t.Int(-1, help="Case marked on the plot (-1: none).").tag(sync=True)
+    x_label = t.Unicode("", help="Abscissa label.").tag(sync=True)
+    y_label = t.Unicode("", help="Ordinate label.").tag(sync=True)
+    width = t.Int(PLOT_SIZE[0], help="Width in CSS pixels.").tag(sync=True)
+    height = t.Int(PLOT_SIZE[1], help="Height in CSS pixels.").tag(sync=True)
+
+    def __init__(self, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self._click_handlers: list = []
+        self.on_msg(self._message)
+
+    def on_click(self, callback) -> None:
+        """Call ``callback(case)`` when a point is clicked in the browser."""
+        self._click_handlers.append(callback)
+
+    def _message(self, _widget, content, _buffers) -> None:
+        if not isinstance(content, dict) or content.get("event") != "click":
+            return
+        case = content.get("case")
+        if not isinstance(case, int) or isinstance(case, bool):
+            log.warning("sweep plot: ignored a click with case %r", case)
+            return
+        for callback in self._click_handlers:
+            callback(case)
 
 
 class SweepPanel(w.VBox):
@@ -35,10 +76,10 @@ class SweepPanel(w.VBox):
 
     Attributes
     ----------
-    plot : ipywidgets.Image
-        The summary plot (PNG).
+    plot : SweepPlot
+        The summary plot; a click on a point opens its case.
     case : ipywidgets.Dropdown
-        The case to open (row index of the table).
+        The case to open (row index of the table): the keyboard route.
     explorer : Explorer
         Shows the opened case.
     path : EquilibriumPath or None
@@ -66,13 +107,30 @@ class SweepPanel(w.VBox):
         self.case = w.Dropdown(options=labels, description="case", layout=w.Layout(width="auto"))
         self.open_button = w.Button(description="open in explorer", icon="folder-open")
         self.status = w.HTML("")
-        self.plot = w.Image(format="png")
+        self.plot = SweepPlot(x_label=str(x), y_label=str(y))
         self.explorer = Explorer()
+        self.error = ""
+        self.errors = w.Output(layout=w.Layout(display="none"))
         super().__init__(children=[self.plot, w.HBox([self.case, self.open_button]), self.status,
-                                   self.explorer])
-        self.case.observe(lambda change: self.draw(), "value")
-        self.open_button.on_click(lambda _: self.open())
+                                   self.errors, self.explorer])
+        self.case.observe(self._case_changed, "value")
+        self.open_button.on_click(self._open_clicked)
+        self.plot.on_click(self._point_clicked)
         self.draw()
+
+    @shown_in_widget
+    def _case_changed(self, change) -> None:
+        self.plot.chosen = -1 if change["new"] is None else int(change["new"])
+
+    @shown_in_widget
+    def _open_clicked(self, _button) -> None:
+        self.open_case()
+
+    @shown_in_widget
+    def _point_clicked(self, case: int) -> None:
+        """A point clicked in the browser: choose its case and open it."""
+        self.open_case(case)                  # checks the case first
+        self.case.value = case
 
     def _label(self, i) -> str:
         row = self.table.loc[i]
@@ -83,33 +141,24 @@ class SweepPanel(w.VBox):
         return f"{i}: {params} → {self.y} {shown} ({row.get('status', '')})"
 
     def draw(self) -> None:
-        """Redraw the plot, the chosen case marked."""
-        from matplotlib.figure import Figure
-        fig = Figure(figsize=FIGSIZE, dpi=100, layout="constrained")
-        ax = fig.subplots()
+        """Send the curves to the plot (one per value of ``by``), the chosen case marked."""
         t = self.table
         groups = [(None, t)] if self.by is None else list(t.groupby(self.by, sort=True))
+        series = []
         for key, g in groups:
             g = g.sort_values(self.x)
-            ax.plot(g[self.x], g[self.y], "o-", ms=4,
-                    label=None if key is None else f"{self.by} = {key:g}" if isinstance(key, float)
-                    else f"{self.by} = {key}")
-        i = self.case.value
-        if i is not None:
-            ax.plot([t.loc[i, self.x]], [t.loc[i, self.y]], "s", ms=11, mfc="none", mec="black",
-                    label="chosen case")
-        ax.set_xlabel(self.x)
-        ax.set_ylabel(self.y)
-        ax.grid(alpha=0.3)
-        if self.by is not None or i is not None:
-            ax.legend(fontsize=8, loc="best")
-        buf = io.BytesIO()
-        fig.savefig(buf, format="png")
-        self.plot.value = buf.getvalue()
+            label = "" if key is None else f"{self.by} = {key:g}" if isinstance(key, float) else f"{self.by} = {key}"
+            series.append({"label": label, "points": [
+                [int(i), _number(g.loc[i, self.x]), _number(g.loc[i, self.y]), self._label(i)]
+                for i in g.index]})
+        with self.plot.hold_sync():
+            self.plot.series = series
+            self.plot.chosen = -1 if self.case.value is None else int(self.case.value)
 
-    def open(self, i=None):
+    def open_case(self, i=None):
         """Load (from the store) or re-trace case ``i`` (default: the chosen one) and
-        show it in the explorer; returns its path."""
+        show it in the explorer; returns its path. (Not ``open``: that name is the
+        widget's own, which opens its connection to the browser.)"""
         i = self.case.value if i is None else i
         if i not in self.table.index:
             raise ModelError(f"sweep_panel: no case {i!r} in the table (0–{len(self.table) - 1}).")
@@ -132,6 +181,15 @@ class SweepPanel(w.VBox):
 
 def _plain(v):
     return v.item() if isinstance(v, np.generic) else v
+
+
+def _number(v) -> float | None:
+    """A plot coordinate: a float, or None (not drawn) for NaN, inf and non-numbers."""
+    try:
+        v = float(v)
+    except (TypeError, ValueError):
+        return None
+    return v if math.isfinite(v) else None
 
 
 def sweep_panel(table, build, control, *, x: str, y: str, by: str | None = None, store=None,

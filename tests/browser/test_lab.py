@@ -348,3 +348,43 @@ def test_widgets_in_jupyterlab(lab, record_property):
         finally:
             browser.close()
     print("screenshots:", ", ".join(sorted(p.name for p in shots.glob("*.png"))))
+
+
+def test_sweep_panel_opens_a_clicked_point_in_jupyterlab(tmp_path):
+    # sweep_panel.ipynb: four arches swept; hovering a plotted point shows its case,
+    # clicking it loads the stored path into the explorer below the plot
+    chromium, sync_playwright = _browser()
+    with contextlib.ExitStack() as stack:
+        try:
+            url = stack.enter_context(running_lab(tmp_path, HERE / "sweep_panel.ipynb"))
+        except RuntimeError as exc:
+            pytest.fail(str(exc))
+        with sync_playwright() as pw:
+            browser = pw.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
+            try:
+                page = browser.new_page(viewport={"width": 1400, "height": 1100})
+                errors = []
+                page.on("pageerror", lambda e: errors.append(str(e)))
+                open_and_run(page, url, "sweep_panel.ipynb")
+                expect = page.locator(".jp-OutputArea-output", has_text="EXPECT").inner_text()
+                n_points = re.search(r"case 3 (\d+) points", expect).group(1)
+                page.wait_for_function(
+                    "() => document.querySelectorAll('.largerot-sweep-point').length === 4",
+                    timeout=30_000)
+                point = page.locator(".largerot-sweep-point[data-case='3']")
+                point.scroll_into_view_if_needed()
+                point.hover()
+                tip = page.locator(".largerot-sweep-tip")
+                assert tip.is_visible() and "rise=0.25" in tip.inner_text()
+                point.click()
+                page.wait_for_function(
+                    "() => [...document.querySelectorAll('.widget-html')]"
+                    ".some(e => e.textContent.includes('case 3 (loaded'))", timeout=30_000)
+                page.wait_for_function(
+                    "n => [...document.querySelectorAll('.largerot-readout')]"
+                    ".some(e => e.textContent.includes(`of ${n - 1}`))",
+                    arg=int(n_points), timeout=30_000)
+                assert page.locator(".largerot-sweep-chosen").count() == 1    # the mark moved
+                assert not errors, errors
+            finally:
+                browser.close()
