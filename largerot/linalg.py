@@ -214,11 +214,9 @@ class Factorization:
         pivots, order = self._pivots_in_order()
         if not np.isfinite(pivots).all():
             raise SingularTangent("The factorisation produced non-finite pivots.")
-        diag = np.abs(self._diagonal())
         self._pivots = pivots
         self._pivot_dof = order
-        with np.errstate(divide="ignore", invalid="ignore"):
-            self._pivot_ratio = np.abs(pivots) / np.where(diag[order] > 0, diag[order], np.inf)
+        self._pivot_ratio = None           # when asked (the mechanism check), not per point
 
     @property
     def pivots(self) -> np.ndarray:
@@ -233,7 +231,11 @@ class Factorization:
 
     @property
     def pivot_ratio(self) -> np.ndarray:
-        self.pivots
+        order = self.pivot_dof
+        if self._pivot_ratio is None:
+            diag = np.abs(self._diagonal())
+            with np.errstate(divide="ignore", invalid="ignore"):
+                self._pivot_ratio = np.abs(self._pivots) / np.where(diag[order] > 0, diag[order], np.inf)
         return self._pivot_ratio
 
     @property
