@@ -469,7 +469,7 @@ def play_times(times: np.ndarray, seconds: float) -> np.ndarray:
     return ((t - t[0]) * rate).astype(np.float32)
 
 
-def lowest_frequencies(path: EquilibriumPath, max_points: int = MAX_FREQUENCY_POINTS) -> tuple:
+def lowest_frequencies(path: EquilibriumPath, max_points: int | None = None) -> tuple:
     """The lowest natural frequency (Hz) at up to ``max_points`` points of the path.
 
     Calls :func:`largerot.frequencies` (``modes=1``) once per point: at every point of
@@ -483,7 +483,7 @@ def lowest_frequencies(path: EquilibriumPath, max_points: int = MAX_FREQUENCY_PO
         Negative past a loss of stability (:mod:`largerot.vibration`).
     """
     from ..vibration import frequencies
-    pts = frame_points(len(path), int(max_points))
+    pts = frame_points(len(path), MAX_FREQUENCY_POINTS if max_points is None else int(max_points))
     if len(pts) < len(path):
         log.info("Lowest frequency computed at %d of %d points (evenly spread).", len(pts), len(path))
     f = np.asarray(frequencies(path, i=pts.tolist(), modes=1), dtype=float).reshape(len(pts), -1)[:, 0]
