@@ -19,9 +19,9 @@ const PLAY_SYNC_MS = 250;
 // Pixels within which the pointer picks a node.
 const HOVER_PX = 12;
 // Offsets (px) tried in turn for a node or load label until its box overlaps none
-// placed before: two rings of eight directions.
+// placed before (load arrows included): three rings of eight directions.
 const LABEL_OFFSETS = [];
-for (const r of [9, 18]) for (const a of [45, 135, -45, -135, 90, -90, 0, 180]) {
+for (const r of [9, 18, 30]) for (const a of [45, 135, -45, -135, 90, -90, 0, 180]) {
   LABEL_OFFSETS.push([r * Math.cos((a * Math.PI) / 180), -r * Math.sin((a * Math.PI) / 180)]);
 }
 
@@ -499,12 +499,13 @@ function render({ model, el }) {
     ctx.restore();
     const items = [];
     for (const f of d.symbols.loads || []) {
-      if (!f.text) continue;
+      // every arrow is kept clear, also those of line loads and self-weight (no text)
       const x = g.X(xy[base + 2 * f.v]), y = g.Y(xy[base + 2 * f.v + 1]);
       const sg = f.constant ? 1 : Math.sign(lam) || 1;
       const n = Math.hypot(f.fx, f.fy);
       const tx = n ? x - (sg * f.fx / n) * 44 : x, ty = n ? y + (sg * f.fy / n) * 44 : y - 16;
       taken.push([Math.min(x, tx) - 3, Math.min(y, ty) - 3, Math.max(x, tx) + 3, Math.max(y, ty) + 3]);
+      if (!f.text) continue;
       items.push({ text: f.text, x: tx, y: ty, color: f.constant ? COLORS.constant : COLORS.load,
         bold: true, alpha: i === 0 ? 1 : 0.6 });
     }

@@ -212,7 +212,7 @@ class Explorer(w.VBox):
         if self._want_frequencies:
             if self._frequency is None or self._frequency[0] is not path:
                 self._frequency = (path, data.lowest_frequencies(path))
-            options.insert(0, ("lowest frequency f1 [Hz]", data.FREQUENCY))
+            options.insert(0, ("frequency f1 [Hz]", data.FREQUENCY))
         same = self.path is not None and self.path.structure is s
         if node is None or dof is None:
             if same:
