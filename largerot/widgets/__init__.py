@@ -31,9 +31,10 @@ def _check_curve(structure, node, dof, what: str) -> None:
 
 @functools.wraps(_explorer.explore)
 def explore(path, node=None, dof=None, **options):
+    from ..motion import Motion
     from ..results import EquilibriumPath
-    if not isinstance(path, EquilibriumPath):
-        raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
+    if not isinstance(path, (EquilibriumPath, Motion)):
+        raise TypeError(f"`path` must be an EquilibriumPath or a Motion, got {type(path).__name__}.")
     _check_curve(path.structure, node, dof, "explore")
     return _explorer.explore(path, node, dof, **options)
 

@@ -18,6 +18,12 @@ const COLORS = {
 const PLAY_SYNC_MS = 250;
 // Pixels within which the pointer picks a node.
 const HOVER_PX = 12;
+// Offsets (px) tried in turn for a node or load label until its box overlaps none
+// placed before (load arrows included): three rings of eight directions.
+const LABEL_OFFSETS = [];
+for (const r of [9, 18, 30]) for (const a of [45, 135, -45, -135, 90, -90, 0, 180]) {
+  LABEL_OFFSETS.push([r * Math.cos((a * Math.PI) / 180), -r * Math.sin((a * Math.PI) / 180)]);
+}
 
 function typed(model, name, Kind) {
   const v = model.get(name);
@@ -64,7 +70,11 @@ function render({ model, el }) {
   const readout = document.createElement("div");
   readout.className = "largerot-readout";
   readout.style.cssText = "font: 13px monospace; padding: 4px 2px; white-space: pre-wrap; max-width: 100%;";
-  root.append(canvas, readout);
+  // the model's input the drawing gives no value for: line loads, self-weight, springs, units
+  const notes = document.createElement("div");
+  notes.className = "largerot-model-notes";
+  notes.style.cssText = "font: 11px sans-serif; color: #666; padding: 0 2px 2px;";
+  root.append(canvas, readout, notes);
   el.append(root);
 
   const layer = document.createElement("canvas");
@@ -90,6 +100,9 @@ function render({ model, el }) {
     d.bounds = model.get("bounds");
     d.critical = model.get("critical");
     d.symbols = model.get("symbols");
+    d.frameTimes = typed(model, "frame_times", Float32Array);
+    d.motion = model.get("motion");
+    notes.textContent = ((d.symbols || {}).notes || []).join("   ·   ");
   }
 
   function geometry() {
@@ -267,10 +280,15 @@ function render({ model, el }) {
     // legend: a row above the plot, off the curve
     ctx.font = "11px sans-serif"; ctx.textAlign = "left";
     let lx = px, ly = py - 10;
-    ctx.fillStyle = COLORS.stable; ctx.fillRect(lx, ly - 4, 16, 2.5);
-    ctx.fillStyle = COLORS.axis; ctx.fillText("stable", lx + 20, ly); lx += 20 + ctx.measureText("stable").width + 14;
-    ctx.fillStyle = COLORS.unstable; ctx.fillRect(lx, ly - 4, 6, 2.5); ctx.fillRect(lx + 10, ly - 4, 6, 2.5);
-    ctx.fillStyle = COLORS.axis; ctx.fillText("unstable", lx + 20, ly); lx += 20 + ctx.measureText("unstable").width + 14;
+    if (d.motion) {
+      ctx.fillStyle = COLORS.stable; ctx.fillRect(lx, ly - 4, 16, 2.5);
+      ctx.fillStyle = COLORS.axis; ctx.fillText("motion (time upwards)", lx + 20, ly);
+    } else {
+      ctx.fillStyle = COLORS.stable; ctx.fillRect(lx, ly - 4, 16, 2.5);
+      ctx.fillStyle = COLORS.axis; ctx.fillText("stable", lx + 20, ly); lx += 20 + ctx.measureText("stable").width + 14;
+      ctx.fillStyle = COLORS.unstable; ctx.fillRect(lx, ly - 4, 6, 2.5); ctx.fillRect(lx + 10, ly - 4, 6, 2.5);
+      ctx.fillStyle = COLORS.axis; ctx.fillText("unstable", lx + 20, ly); lx += 20 + ctx.measureText("unstable").width + 14;
+    }
     if ((d.critical || []).length) {
       ctx.fillStyle = COLORS.critical;
       ctx.beginPath(); ctx.moveTo(lx + 5, ly - 8); ctx.lineTo(lx + 10, ly - 3); ctx.lineTo(lx + 5, ly + 2);
@@ -287,6 +305,38 @@ function render({ model, el }) {
     ctx.strokeText(text, x, y);
     ctx.fillStyle = color; ctx.fillText(text, x, y);
     ctx.restore();
+  }
+
+  function placeLabels(ctx, g, items, taken) {
+    // each item {text, x, y, color, bold, alpha}: the first offset whose box overlaps
+    // no box placed before (extremes of the diagram included) and stays in the panel
+    const [sx, sy, sw, sh] = g.shape;
+    ctx.save();
+    ctx.textBaseline = "middle"; ctx.lineJoin = "round";
+    for (const it of items) {
+      ctx.font = `${it.bold ? "bold " : ""}11px sans-serif`;
+      const w = ctx.measureText(it.text).width, h = 13;
+      let best = null;
+      for (const [dx, dy] of LABEL_OFFSETS) {
+        const align = dx > 0.5 ? "left" : dx < -0.5 ? "right" : "center";
+        const x = it.x + dx, y = it.y + dy;
+        const x0 = align === "left" ? x : align === "right" ? x - w : x - w / 2;
+        const box = [x0 - 2, y - h / 2 - 1, x0 + w + 2, y + h / 2 + 1];
+        let hits = 0;
+        for (const b of taken) if (box[0] < b[2] && b[0] < box[2] && box[1] < b[3] && b[1] < box[3]) hits += 1;
+        if (box[0] < sx || box[2] > sx + sw || box[1] < sy || box[3] > sy + sh) hits += 0.5;
+        if (!best || hits < best.hits) best = { hits, x, y, align, box };
+        if (!hits) break;
+      }
+      taken.push(best.box);
+      ctx.globalAlpha = it.alpha;
+      ctx.font = `${it.bold ? "bold " : ""}11px sans-serif`;
+      ctx.textAlign = best.align;
+      ctx.lineWidth = 3.5; ctx.strokeStyle = "white"; ctx.strokeText(it.text, best.x, best.y);
+      ctx.fillStyle = it.color; ctx.fillText(it.text, best.x, best.y);
+    }
+    ctx.restore();
+    canvas.dataset.labels = items.map((it) => it.text).join(" | ");
   }
 
   function forceDiagram(ctx, g, i, base, xy) {
@@ -437,6 +487,33 @@ function render({ model, el }) {
     }
     for (const [text, x, y, color, align] of d.extremes) label(ctx, text, x, y, color, align);
     canvas.dataset.extremes = d.extremes.map((e) => e[0]).join(" ");
+    // the model as built: node names always (light), the loads' values at their
+    // arrows' tails (full at the first frame, light after)
+    const taken = [];
+    ctx.save(); ctx.font = "bold 11px sans-serif";
+    for (const [text, x, y, , align] of d.extremes) {
+      const w = ctx.measureText(text).width;
+      const x0 = align === "left" ? x : align === "right" ? x - w : x - w / 2;
+      taken.push([x0, y - 7, x0 + w, y + 7]);
+    }
+    ctx.restore();
+    const items = [];
+    for (const f of d.symbols.loads || []) {
+      // every arrow is kept clear, also those of line loads and self-weight (no text)
+      const x = g.X(xy[base + 2 * f.v]), y = g.Y(xy[base + 2 * f.v + 1]);
+      const sg = f.constant ? 1 : Math.sign(lam) || 1;
+      const n = Math.hypot(f.fx, f.fy);
+      const tx = n ? x - (sg * f.fx / n) * 44 : x, ty = n ? y + (sg * f.fy / n) * 44 : y - 16;
+      taken.push([Math.min(x, tx) - 3, Math.min(y, ty) - 3, Math.max(x, tx) + 3, Math.max(y, ty) + 3]);
+      if (!f.text) continue;
+      items.push({ text: f.text, x: tx, y: ty, color: f.constant ? COLORS.constant : COLORS.load,
+        bold: true, alpha: i === 0 ? 1 : 0.6 });
+    }
+    for (const nm of d.symbols.names || []) {
+      items.push({ text: nm.text, x: g.X(xy[base + 2 * nm.v]), y: g.Y(xy[base + 2 * nm.v + 1]),
+        color: "#333333", bold: nm.named, alpha: i === 0 ? 0.95 : 0.7 });
+    }
+    placeLabels(ctx, g, items, taken);
     hoverTip(ctx, g, i, base, xy);
     ctx.restore();
     forceLegend(ctx, g);
@@ -534,8 +611,18 @@ function render({ model, el }) {
     if (!play) return;
     if (play.start === null) { play.start = now; play.lastSync = now; }
     const nf = d.nf;
-    const rate = (nf - 1) / Math.max(0.05, model.get("play_seconds") || 8);  // frames per second
-    const i = Math.min(nf - 1, Math.floor(play.from + ((now - play.start) / 1000) * rate));
+    let i;
+    const ft = d.frameTimes;
+    if (ft.length === nf) {
+      // a motion: the last frame due at its own (scaled) time, uneven steps kept
+      const due = ft[play.from] + (now - play.start) / 1000;
+      let lo = play.from, hi = nf - 1;
+      while (lo < hi) { const mid = (lo + hi + 1) >> 1; if (ft[mid] <= due) lo = mid; else hi = mid - 1; }
+      i = lo;
+    } else {
+      const rate = (nf - 1) / Math.max(0.05, model.get("play_seconds") || 8);  // frames per second
+      i = Math.min(nf - 1, Math.floor(play.from + ((now - play.start) / 1000) * rate));
+    }
     if (i !== shown) { shown = i; draw(); }
     if (i >= nf - 1) { stopPlay(); return; }
     if (now - play.lastSync >= PLAY_SYNC_MS) { sync(i); play.lastSync = now; }
@@ -568,7 +655,8 @@ function render({ model, el }) {
 
   const data = ["frames", "ghost", "starts", "kinds", "curve_x", "curve_y", "stable", "points",
     "readouts", "hover_nodes", "node_u", "bounds", "critical", "symbols", "width", "height",
-    "show_ghost", "x_label", "y_label", "n_frames", "n_vertices", "element_ends", "force_legend"];
+    "show_ghost", "x_label", "y_label", "n_frames", "n_vertices", "element_ends", "force_legend",
+    "frame_times", "motion"];
   let queued = false;   // one rebuild for a batch of changes arriving together
   const onData = () => {
     if (queued) return;

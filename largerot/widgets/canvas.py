@@ -49,6 +49,9 @@ class ShapeCanvas(anywidget.AnyWidget):
     force_legend = t.List(["", "", ""], help="[diagram name, positive, negative] for the legend.").tag(sync=True)
     playing = t.Bool(False, help="True while the browser plays the path (it stops at the end).").tag(sync=True)
     play_seconds = t.Float(8.0, help="Seconds a whole play takes (frames are skipped to keep it).").tag(sync=True)
+    frame_times = t.Bytes(b"", help="float32, shape (n_frames,): when each frame is due in a play, "
+                          "seconds from its start (a motion: its own time); empty: evenly.").tag(sync=True)
+    motion = t.Bool(False, help="The frames are a motion's steps (time axis, no stability).").tag(sync=True)
     stale = t.Bool(False, help="Grey the drawing out: it shows an old result.").tag(sync=True)
     show_ghost = t.Bool(True, help="Draw the undeformed shape dashed.").tag(sync=True)
     width = t.Int(900, help="Canvas width in CSS pixels.").tag(sync=True)

@@ -23,7 +23,9 @@ from ..results import EquilibriumPath, member_lines
 __all__ = ["Layout", "layout", "frames", "frame_points", "curve", "curve_options",
            "readout", "readout_table", "readout_units", "readout_lines", "readout_line", "format_value",
            "dof_label", "dof_key", "member_force_table", "FORCE_NAMES", "FORCE_SIGNS",
-           "symbols", "bounds", "hover_nodes", "node_displacements", "play_seconds"]
+           "symbols", "bounds", "hover_nodes", "node_displacements", "play_seconds",
+           "model_notes", "motion_play_seconds", "play_times", "lowest_frequencies",
+           "FREQUENCY", "TIME_LABEL"]
 
 log = logging.getLogger(__name__)
 
@@ -47,6 +49,23 @@ DIGITS = 4
 #: at most POINTS_PER_SECOND points a second (short paths are not rushed), and at least
 #: MIN_PLAY_SECONDS.
 PLAY_SECONDS, POINTS_PER_SECOND, MIN_PLAY_SECONDS = 8.0, 40.0, 1.0
+#: A motion plays in real time when it lasts between these many seconds; a shorter one
+#: is slowed to the first, a longer one sped up to the second (slower than 1 s nothing
+#: can be followed by eye; beyond 30 s a play is a wait; common practice, no source).
+MOTION_PLAY_RANGE = (1.0, 30.0)
+#: Node labels drawn on the shape at most (named nodes first, then member ends): more
+#: cover the drawing.
+MAX_NODE_LABELS = 30
+#: Points at most where the explorer computes the lowest natural frequency (one
+#: generalised eigenproblem each, milliseconds to a second per point): longer paths
+#: are sampled evenly and the curve joins the samples by straight lines.
+MAX_FREQUENCY_POINTS = 200
+#: The curve choice "lowest natural frequency against λ" in the explorer's menu.
+FREQUENCY = (-1, "f1")
+#: Ordinate and readout label of a motion: time in seconds. The unit systems label
+#: force and length only; all of them are consistent with seconds (masses are
+#: defined through accelerations in length/s², see :mod:`largerot.units`).
+TIME_LABEL = "time t [s]"
 
 
 class Layout:
@@ -176,8 +195,14 @@ def curve_options(structure: Structure, max_nodes: int = 40) -> list:
     return [(dof_label(structure, n, d), (n, d)) for n in nodes for d in DOFS]
 
 
-def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None = None) -> dict:
+def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None = None, *,
+          time: bool = False, frequency: tuple | None = None) -> dict:
     """The load–displacement curve for drawing.
+
+    ``time``: the path is a motion's (:meth:`largerot.Motion.as_path`), its load
+    factor column the time. ``(node, dof) == FREQUENCY`` draws the lowest natural
+    frequency instead of a displacement; ``frequency`` is then ``(points, f)`` from
+    :func:`lowest_frequencies`, joined by straight lines between its points.
 
     Returns
     -------
@@ -187,16 +212,31 @@ def curve(path: EquilibriumPath, node: int, dof: str, points: np.ndarray | None 
     """
     if points is None:
         points = np.arange(len(path))
-    x_all = path.displacement(node, dof)
     crit = []
-    g = 3 * int(node) + DOFS.index(dof)
+    if (node, dof) == FREQUENCY:
+        if frequency is None:
+            raise ValueError("The frequency curve needs `frequency` = (points, f) from "
+                             "lowest_frequencies(path).")
+        at, f = frequency
+        x_pts = np.interp(points, at, f)
+        x_of = lambda cp: float(np.interp(cp.index, at, f))     # noqa: E731
+        x_label = "lowest natural frequency f1 [Hz]"
+    else:
+        x_all = path.displacement(node, dof)
+        x_pts = x_all[points]
+        g = 3 * int(node) + DOFS.index(dof)
+
+        def x_of(cp):
+            u = np.asarray(cp.u)
+            return float(u[g]) if u.shape == (3 * path.structure.n_nodes,) else float(x_all[cp.index])
+        x_label = dof_label(path.structure, node, dof)
     for cp in path.critical_points:
-        u = np.asarray(cp.u)
-        x = float(u[g]) if u.shape == (3 * path.structure.n_nodes,) else float(x_all[cp.index])
-        crit.append({"x": x, "y": float(cp.load_factor), "kind": str(cp.kind), "index": int(cp.index)})
-    return {"x": x_all[points].astype(np.float32), "y": path.load_factor[points].astype(np.float32),
-            "stable": path.stable[points].astype(np.uint8), "critical": crit,
-            "x_label": dof_label(path.structure, node, dof), "y_label": "load factor λ"}
+        crit.append({"x": x_of(cp), "y": float(cp.load_factor), "kind": str(cp.kind),
+                     "index": int(cp.index)})
+    stable = np.ones(len(points), np.uint8) if time else path.stable[points].astype(np.uint8)
+    return {"x": np.asarray(x_pts, dtype=np.float32), "y": path.load_factor[points].astype(np.float32),
+            "stable": stable, "critical": crit, "x_label": x_label,
+            "y_label": TIME_LABEL if time else "load factor λ"}
 
 
 # -- member forces, only as the path provides them -------------------------------------
@@ -301,19 +341,24 @@ def format_value(v: float, digits: int = DIGITS) -> str:
 
 
 # -- readout ---------------------------------------------------------------------------
-def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = None) -> dict:
+def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = None, *,
+                  time: bool = False, frequency: tuple | None = None) -> dict:
     """Columns shown under the widget, each shape (n_frames,): label -> values.
 
-    Load factor, the chosen node's three DOFs and, when the path has member forces,
-    max |M|, min N (the largest compression) and max N (the largest tension) over all
+    Load factor (``"t"``, the time, with ``time=True``), the chosen node's three DOFs,
+    ``"f1"`` when ``frequency`` = (points, f) is given (:func:`lowest_frequencies`,
+    straight lines between its points) and, when the path has member forces, max |M|,
+    min N (the largest compression) and max N (the largest tension) over all
     elements. :func:`readout_units` gives each column's unit.
     """
     if points is None:
         points = np.arange(len(path))
     s = path.structure
-    cols = {"λ": path.load_factor[points]}
+    cols = {"t" if time else "λ": path.load_factor[points]}
     for d in DOFS:
         cols[dof_key(s, node, d)] = path.displacement(node, d)[points]
+    if frequency is not None:
+        cols["f1"] = np.interp(points, *frequency)
     M = member_force_table(path, points, "M")
     N = member_force_table(path, points, "N")
     zeros = np.zeros(len(points))
@@ -326,41 +371,49 @@ def readout_table(path: EquilibriumPath, node: int, points: np.ndarray | None = 
 
 
 def readout_units(path: EquilibriumPath, node: int) -> dict:
-    """The unit of each column of :func:`readout_table` (``""`` for λ)."""
+    """The unit of each column of :func:`readout_table` (``""`` for λ, s for t, Hz for f1)."""
     s, u = path.structure, path.structure.units
-    out = {"λ": ""}
+    out = {"λ": "", "t": "s", "f1": "Hz"}
     for d in DOFS:
         out[dof_key(s, node, d)] = u.dof_unit(d)
     out.update({"max |M|": u.moment, "min N": u.force, "max N": u.force})
     return out
 
 
-def readout(path: EquilibriumPath, i: int, node: int) -> dict:
-    """The readout at point ``i`` as ``label -> float`` (what the browser shows)."""
-    t = readout_table(path, node, np.array([range(len(path))[i]]))
+def readout(path: EquilibriumPath, i: int, node: int, **options) -> dict:
+    """The readout at point ``i`` as ``label -> float`` (what the browser shows);
+    ``options`` as for :func:`readout_table`."""
+    t = readout_table(path, node, np.array([range(len(path))[i]]), **options)
     return {k: float(v[0]) for k, v in t.items()}
 
 
-def readout_line(values: dict, point: int, last: int, stable: bool, units: dict | None = None) -> str:
-    """One point's readout as the browser shows it, each value with its unit.
+def readout_line(values: dict, point: int, last: int, stable: bool | None,
+                 units: dict | None = None, word: str = "point") -> str:
+    """One point's readout as the browser shows it, each value with its unit
+    (``stable=None``: no stability word, as for a motion's steps).
 
     >>> readout_line({"λ": 0.5, "max N": 23760.4}, 3, 10, True, {"max N": "N"})
     'point 3 of 10   λ = 0.5   max N = 2.376e4 N   stable'
+    >>> readout_line({"t": 0.25}, 3, 10, None, {"t": "s"}, word="step")
+    'step 3 of 10   t = 0.25 s'
     """
     units = units or {}
-    parts = [f"point {int(point)} of {int(last)}"]
+    parts = [f"{word} {int(point)} of {int(last)}"]
     parts += [f"{k} = {format_value(v)} {units.get(k, '')}".rstrip() for k, v in values.items()]
-    parts.append("stable" if stable else "unstable")
+    if stable is not None:
+        parts.append("stable" if stable else "unstable")
     return "   ".join(parts)
 
 
-def readout_lines(path: EquilibriumPath, node: int, points: np.ndarray) -> list:
+def readout_lines(path: EquilibriumPath, node: int, points: np.ndarray, *, time: bool = False,
+                  frequency: tuple | None = None) -> list:
     """The readout text of every frame (sent once; the browser picks the line)."""
-    table = readout_table(path, node, points)
+    table = readout_table(path, node, points, time=time, frequency=frequency)
     units = readout_units(path, node)
     last = int(points[-1]) if len(points) else 0
     stable = path.stable[points]
-    return [readout_line({k: v[j] for k, v in table.items()}, int(p), last, bool(stable[j]), units)
+    return [readout_line({k: v[j] for k, v in table.items()}, int(p), last,
+                         None if time else bool(stable[j]), units, "step" if time else "point")
             for j, p in enumerate(points)]
 
 
@@ -388,15 +441,128 @@ def play_seconds(n_frames: int, longest: float = PLAY_SECONDS) -> float:
     return float(min(longest, max(MIN_PLAY_SECONDS, n_frames / POINTS_PER_SECOND)))
 
 
-# -- supports and loads ----------------------------------------------------------------
+def motion_play_seconds(duration: float, shortest: float = MOTION_PLAY_RANGE[0],
+                        longest: float = MOTION_PLAY_RANGE[1]) -> float:
+    """Seconds a whole motion of ``duration`` seconds takes to play: its own duration
+    (real time) between ``shortest`` and ``longest``, else the nearer bound.
+
+    >>> motion_play_seconds(2.5), motion_play_seconds(0.05), motion_play_seconds(600.0)
+    (2.5, 1.0, 30.0)
+    """
+    return float(min(longest, max(shortest, float(duration))))
+
+
+def play_times(times: np.ndarray, seconds: float) -> np.ndarray:
+    """When each frame of a motion is due in a play of ``seconds``, float32, shape
+    (n_frames,): the frames' times shifted to start at 0 and scaled to the play.
+    The browser shows at each display refresh the last frame due (uneven time steps
+    play at their true pace).
+
+    >>> play_times(np.array([1.0, 1.5, 3.0]), 4.0).tolist()
+    [0.0, 1.0, 4.0]
+    """
+    t = np.asarray(times, dtype=float)
+    if not len(t):
+        return np.zeros(0, np.float32)
+    span = float(t[-1] - t[0])
+    rate = seconds / span if span > 0 else 0.0
+    return ((t - t[0]) * rate).astype(np.float32)
+
+
+def lowest_frequencies(path: EquilibriumPath, max_points: int | None = None) -> tuple:
+    """The lowest natural frequency (Hz) at up to ``max_points`` points of the path.
+
+    Calls :func:`largerot.frequencies` (``modes=1``) once per point: at every point of
+    a path of at most ``max_points``, else at ``max_points`` evenly spread ones (both
+    ends kept; :func:`curve` joins them by straight lines).
+
+    Returns
+    -------
+    points : ndarray of int, shape (n,)
+    f : ndarray, shape (n,)
+        Negative past a loss of stability (:mod:`largerot.vibration`).
+    """
+    from ..vibration import frequencies
+    pts = frame_points(len(path), MAX_FREQUENCY_POINTS if max_points is None else int(max_points))
+    if len(pts) < len(path):
+        log.info("Lowest frequency computed at %d of %d points (evenly spread).", len(pts), len(path))
+    f = np.asarray(frequencies(path, i=pts.tolist(), modes=1), dtype=float).reshape(len(pts), -1)[:, 0]
+    return pts, f
+
+
+# -- the model as built: names, supports, loads with their values ------------------------
+def _force_text(units, fx: float, fy: float, mz: float) -> str:
+    """``"fx 4000, fy -2000 N"``, ``"mz 5 N·m"``: a node's load with its units."""
+    parts = []
+    forces = [f"{c} {format_value(v)}" for c, v in (("fx", fx), ("fy", fy)) if v]
+    if forces:
+        parts.append(", ".join(forces) + f" {units.force}")
+    if mz:
+        parts.append(f"mz {format_value(mz)} {units.moment}")
+    return "; ".join(parts)
+
+
+def node_names(structure: Structure, lay: Layout, max_labels: int = MAX_NODE_LABELS) -> list:
+    """Node labels drawn on the shape: ``{v, text, named}``, named nodes first, then
+    the member ends the user made (by id), at most ``max_labels``; nodes made by
+    meshing a member get none."""
+    model = structure.snapshot()
+    interior = set()
+    for m in model.members:
+        interior.update(int(n) for n in np.asarray(m.node_array)[1:-1])
+    named = {int(n) for n in model.node_names.values()}
+    own = [n for n in sorted(lay.node_vertex) if n in named or n not in interior]
+    own.sort(key=lambda n: (n not in named, n))
+    out = []
+    for n in own[:int(max_labels)]:
+        name = model.node_name(n)
+        out.append({"v": int(lay.node_vertex[n]), "text": name if name is not None else str(n),
+                    "named": name is not None})
+    return out
+
+
+def model_notes(structure: Structure) -> list:
+    """What the drawing shows no value for, one sentence each: line loads, gravity,
+    follower loads, springs (with their units), and the unit system.
+
+    ``λ×`` marks a reference load (scaled by the load factor)."""
+    model = structure.snapshot()
+    u = model.units
+    notes = []
+    for mid, qx, qy, p, t, constant in model.line_loads:
+        words = [f"{c} {format_value(v)}" for c, v in (("qx", qx), ("qy", qy), ("normal", p),
+                                                       ("tangential", t)) if v]
+        if words:
+            notes.append(f"{'' if constant else 'λ×'}line load {', '.join(words)} "
+                         f"{u.of('line load')} on {model.member_label(model.members[int(mid)])}")
+    if model.gravity is not None:
+        g, dx, dy, constant = model.gravity
+        notes.append(f"{'' if constant else 'λ×'}self-weight g = {format_value(g)} "
+                     f"{u.of('acceleration')} along ({format_value(dx)}, {format_value(dy)})")
+    for constant in (False, True):
+        for n, f in zip(*model.follower_table(constant)):
+            notes.append(f"{'' if constant else 'λ×'}follower load at {model.node_label(int(n))}: "
+                         f"{_force_text(u, f[0], f[1], 0.0)}")
+    for g, k in zip(*model.spring_table()):
+        n, d = int(g) // 3, int(g) % 3
+        kind = "rotational stiffness" if d == 2 else "translational stiffness"
+        notes.append(f"spring {DOFS[d]} at {model.node_label(n)}: k = {format_value(k)} {u.of(kind)}")
+    notes.append(f"units {u.system}")
+    return notes
+
+
 def symbols(structure: Structure, lay: Layout) -> dict:
-    """Supports and loads to draw, as plain data.
+    """Supports, loads and node names to draw, as plain data.
 
     ``supports``: ``{x, y, v, held}`` with ``held`` a string of the fixed DOFs
     (``"xyr"`` a clamp, ``"xy"`` a pin, ``"x"``/``"y"`` a roller, ``"r"`` a rotation
-    lock); ``loads``: ``{v, fx, fy, mz, constant}`` with ``v`` the vertex of the node;
-    ``obstacles``: rigid obstacles of contacts (:func:`largerot.plotting.obstacle_outlines`).
+    lock); ``loads``: ``{v, fx, fy, mz, constant, text}`` with ``v`` the vertex of the
+    node and ``text`` the node's own loads with their units (``"λ×fx 4000 N"``; ``""``
+    where the arrow only carries line loads or self-weight lumped at the node);
+    ``obstacles``: rigid obstacles of contacts (:func:`largerot.plotting.obstacle_outlines`);
+    ``names``: :func:`node_names`; ``notes``: :func:`model_notes`.
     """
+    model = structure.snapshot()
     fixed = structure.fixed_dofs()
     xy = structure.xy
     supports = []
@@ -404,12 +570,19 @@ def symbols(structure: Structure, lay: Layout) -> dict:
         held = "".join(c for k, c in enumerate("xyr") if 3 * n + k in set(fixed.tolist()))
         supports.append({"x": float(xy[n, 0]), "y": float(xy[n, 1]),
                          "v": int(lay.node_vertex.get(n, -1)), "held": held})
+    own = {}                                    # (node, constant) -> the user's nodal load
+    for n, d, v, c in np.asarray(model.nodal_loads, dtype=float).reshape(-1, 4):
+        own.setdefault((int(n), bool(c)), np.zeros(3))[int(d)] += v
     loads = []
     for constant in (False, True):
         F = structure.load_vector(constant=constant).reshape(-1, 3)
         for n in np.flatnonzero(np.abs(F).sum(axis=1)):
             if int(n) in lay.node_vertex:
                 fx, fy, mz = (float(v) for v in F[n])
+                mine = own.get((int(n), constant))
+                text = "" if mine is None else _force_text(model.units, *mine)
                 loads.append({"v": int(lay.node_vertex[int(n)]), "fx": fx, "fy": fy, "mz": mz,
-                              "constant": constant})
-    return {"supports": supports, "loads": loads, "obstacles": obstacle_outlines(structure)}
+                              "constant": constant,
+                              "text": (("" if constant else "λ×") + text) if text else ""})
+    return {"supports": supports, "loads": loads, "obstacles": obstacle_outlines(structure),
+            "names": node_names(structure, lay), "notes": model_notes(structure)}

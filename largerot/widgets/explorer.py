@@ -8,6 +8,11 @@
 >>> ex.index = 2
 >>> ex.canvas.index, round(ex.readout["λ"], 3)
 (2, 0.5)
+
+A :class:`~largerot.Motion` (``lr.transient``) is explored the same way: its curve
+and readout show the time t in seconds, and it plays in real time. With
+``frequencies=True`` the lowest natural frequency is computed once along the path
+and offered in the curve's menu (shown first).
 """
 from __future__ import annotations
 
@@ -19,6 +24,7 @@ import numpy as np
 import traitlets as t
 
 from ..model import DOFS
+from ..motion import Motion
 from ..plotting import default_curve
 from ..results import EquilibriumPath, member_lines
 from . import data
@@ -53,6 +59,16 @@ class Explorer(w.VBox):
         needed). The browser draws once per display refresh.
     interval : int, optional
         Deprecated and ignored: playback is paced by the browser's animation frames.
+    time : bool, optional
+        The path is a motion's (:meth:`largerot.Motion.as_path`): its load factor
+        column is the time, labelled "t [s]", and it plays in real time. Set by
+        itself when a :class:`~largerot.Motion` is given.
+    frequencies : bool
+        Compute the lowest natural frequency along the path (:func:`largerot.frequencies`,
+        one eigenproblem per point; at most
+        :data:`~largerot.widgets.data.MAX_FREQUENCY_POINTS` points, evenly spread, joined
+        by straight lines) and plot it against λ (the menu's first entry; the
+        displacements stay in the menu). Needs masses (section density or nodal masses).
     """
 
     path = t.Instance(EquilibriumPath, allow_none=True, help="The path explored.")
@@ -62,12 +78,18 @@ class Explorer(w.VBox):
     forces = t.Unicode("", help="Force diagram: '', 'N', 'V' or 'M'.")
     max_frames = t.Int(data.MAX_FRAMES, help="Most frames sent to the browser.")
     error = t.Unicode("", help="The last error raised by a callback ('' if none).")
+    time = t.Bool(False, help="True when the path shown is a motion's (load factor column = time).")
 
     def __init__(self, path: EquilibriumPath | None = None, node: int | None = None,
                  dof: str | None = None, *, scale: float = 1.0, forces: str = "",
                  max_frames: int = data.MAX_FRAMES, width: int = 900, height: int = 400,
                  play_seconds: float | None = None, interval: int | None = None,
-                 **kwargs) -> None:
+                 time: bool | None = None, frequencies: bool = False, **kwargs) -> None:
+        if not isinstance(frequencies, (bool, np.bool_)):
+            raise TypeError(f"`frequencies` must be True or False, got {frequencies!r}.")
+        self._want_frequencies = bool(frequencies)
+        self._frequency = None          # (path, (points, f)) once computed
+        self._time_option = time
         if forces not in ("", *data.FORCE_NAMES):
             raise ValueError(f"`forces` must be '', 'N', 'V' or 'M', got {forces!r}.")
         if int(max_frames) < 2:
@@ -101,6 +123,7 @@ class Explorer(w.VBox):
         self.scale_box = w.BoundedFloatText(value=scale, min=1e-6, max=1e6, description="scale ×",
                                             layout=w.Layout(width="150px"))
         self.note = w.HTML("")
+        self.about = w.HTML("", layout=w.Layout(margin="0 0 0 4px"))
         self.errors = ErrorBox()
         self._points = np.zeros(0, dtype=int)
         self._layout = None
@@ -113,7 +136,7 @@ class Explorer(w.VBox):
             w.HBox([self.play, self.slider, self.menu]),
             self.canvas,
             w.HBox([w.Label("forces"), self.force_buttons, self.ghost_box, self.scale_box]),
-            self.note, self.errors], **kwargs)
+            self.about, self.note, self.errors], **kwargs)
         self.max_frames = int(max_frames)
         t.link((self.menu, "value"), (self, "curve_of"))
         t.link((self.scale_box, "value"), (self, "scale"))
@@ -149,25 +172,65 @@ class Explorer(w.VBox):
         """What the readout shows at the current point: label -> value."""
         if self.path is None or not len(self.path):
             return {}
-        return data.readout(self.path, self.point, self.curve_of[0])
+        return data.readout(self.path, self.point, self._node, **self._options())
+
+    @property
+    def _node(self) -> int:
+        """The node of the readout: the curve's, or the last node chosen before the
+        frequency curve (or the path's default)."""
+        node = self.curve_of[0]
+        if node >= 0:
+            return node
+        return getattr(self, "_last_node", None) or default_curve(self.path)[0]
+
+    def _options(self) -> dict:
+        freq = self._frequency[1] if self._frequency is not None and \
+            self._frequency[0] is self.path else None
+        return {"time": self.time, "frequency": freq}
+
+    @property
+    def frequency(self) -> tuple | None:
+        """``(points, f)``: the lowest natural frequency (Hz) at the path points
+        where it was computed, or None (``frequencies=False``)."""
+        return self._options()["frequency"]
 
     # -- data -----------------------------------------------------------------------
-    def show(self, path: EquilibriumPath, node: int | None = None, dof: str | None = None,
+    def show(self, path: EquilibriumPath | Motion, node: int | None = None, dof: str | None = None,
              index: int | str | None = None) -> None:
-        """Explore ``path`` (a new one, or the same one grown); ``index="last"`` jumps to its end."""
+        """Explore ``path`` (a new one, or the same one grown; or a motion);
+        ``index="last"`` jumps to its end."""
+        time = bool(self._time_option)
+        if isinstance(path, Motion):
+            path, time = path.as_path(), True
         if not isinstance(path, EquilibriumPath):
-            raise TypeError(f"`path` must be an EquilibriumPath, got {type(path).__name__}.")
+            raise TypeError(f"`path` must be an EquilibriumPath or a Motion, got {type(path).__name__}.")
+        if time and self._want_frequencies:
+            raise ValueError("`frequencies=True` needs an equilibrium path; a motion's states are "
+                             "not equilibria (explore the static path for its frequencies).")
         s = path.structure
         options = data.curve_options(s)
+        if self._want_frequencies:
+            if self._frequency is None or self._frequency[0] is not path:
+                self._frequency = (path, data.lowest_frequencies(path))
+            options.insert(0, ("frequency f1 [Hz]", data.FREQUENCY))
+        same = self.path is not None and self.path.structure is s
         if node is None or dof is None:
-            node, dof = default_curve(path) if self.path is None or \
-                self.path.structure is not s else self.curve_of
-        node = s.node_id(node, "explore")                  # a name stands for its node
-        if dof not in DOFS:
-            raise ValueError(f"`dof` must be one of {', '.join(DOFS)}, got {dof!r}.")
-        if (node, dof) not in [v for _, v in options]:
-            options.append((data.dof_label(path.structure, node, dof), (int(node), dof)))
+            if same:
+                node, dof = self.curve_of
+            elif self._want_frequencies:
+                node, dof = data.FREQUENCY
+            else:
+                node, dof = default_curve(path)
+        if (node, dof) != data.FREQUENCY:
+            node = s.node_id(node, "explore")              # a name stands for its node
+            if dof not in DOFS:
+                raise ValueError(f"`dof` must be one of {', '.join(DOFS)}, got {dof!r}.")
+            if (node, dof) not in [v for _, v in options]:
+                options.append((data.dof_label(path.structure, node, dof), (int(node), dof)))
+        elif not self._want_frequencies:
+            raise ValueError("The frequency curve needs `frequencies=True`.")
         old = self.index
+        self.time = time
         self.path = path
         self._points = data.frame_points(len(path), self.max_frames)
         self._layout = data.layout(s, len(self._points))
@@ -182,7 +245,44 @@ class Explorer(w.VBox):
             self.play.max = self.slider.max = max(0, n - 1)
             i = n - 1 if index == "last" else (old if index is None else int(index))
             self.index = min(max(i, 0), max(0, n - 1))
-            self.canvas.play_seconds = self._play_seconds or data.play_seconds(n)
+            self.slider.description = "step" if time else "point"
+            if time:
+                t_pts = path.load_factor[self._points]
+                duration = float(t_pts[-1] - t_pts[0]) if n else 0.0
+                seconds = self._play_seconds or data.motion_play_seconds(duration)
+                self.canvas.frame_times = data.play_times(t_pts, seconds).tobytes()
+            else:
+                seconds = self._play_seconds or data.play_seconds(n)
+                self.canvas.frame_times = b""
+            self.canvas.play_seconds = seconds
+            self.about.value = self._about(path, seconds)
+
+    def _about(self, path: EquilibriumPath, seconds: float) -> str:
+        """The line above the notes: what the curve's axes and the play mean."""
+        parts = []
+        if self.time:
+            t = path.load_factor
+            duration = float(t[-1] - t[0]) if len(t) else 0.0
+            if abs(seconds - duration) <= 1e-9 * max(1.0, duration):
+                pace = "in real time"
+            elif duration > 0:
+                ratio = seconds / duration
+                pace = (f"in {data.format_value(seconds)} s (slowed {data.format_value(ratio)}×)"
+                        if ratio > 1 else
+                        f"in {data.format_value(seconds)} s (sped up {data.format_value(1 / ratio)}×)")
+            else:
+                pace = f"in {data.format_value(seconds)} s"
+            parts.append(f"Motion of {data.format_value(duration)} s; plays {pace}. Time in "
+                         "seconds: the unit systems label force and length, and all are "
+                         "consistent with seconds.")
+        freq = self.frequency
+        if freq is not None:
+            pts, f = freq
+            how = ("at every point" if len(pts) == len(path) else
+                   f"at {len(pts)} of {len(path)} points, evenly spread, straight lines between")
+            parts.append(f"Lowest natural frequency f1 computed {how} (negative past a loss "
+                         "of stability, zero at a critical point).")
+        return "<small>" + " ".join(parts) + "</small>" if parts else ""
 
     @property
     def stale(self) -> bool:
@@ -225,19 +325,23 @@ class Explorer(w.VBox):
         c.points = pts.astype(np.int32).tobytes()
         c.bounds = data.bounds(fr, ghost)
         c.symbols = data.symbols(path.structure, lay)
+        c.motion = self.time
         hover = data.hover_nodes(path.structure, lay)
         c.node_u = data.node_displacements(path, pts, hover).tobytes()
         c.hover_nodes = hover
 
     def _send_curve(self) -> None:
         node, dof = self.curve_of
-        cv = data.curve(self.path, node, dof, self._points)
+        if node >= 0:
+            self._last_node = node
+        opts = self._options()
+        cv = data.curve(self.path, node, dof, self._points, **opts)
         c = self.canvas
         c.curve_x, c.curve_y = cv["x"].tobytes(), cv["y"].tobytes()
         c.stable = cv["stable"].tobytes()
         c.critical = cv["critical"]
         c.x_label, c.y_label = cv["x_label"], cv["y_label"]
-        c.readouts = data.readout_lines(self.path, node, self._points)
+        c.readouts = data.readout_lines(self.path, self._node, self._points, **opts)
 
     def _send_forces(self) -> None:
         c = self.canvas
@@ -298,11 +402,13 @@ class Explorer(w.VBox):
                 self._send_forces()
 
 
-def explore(path: EquilibriumPath, node: int | None = None, dof: str | None = None,
+def explore(path: EquilibriumPath | Motion, node: int | None = None, dof: str | None = None,
             **options) -> Explorer:
-    """Explore a traced path: shape and load–displacement curve, slider, play, readout.
+    """Explore a traced path (or a motion): shape and load–displacement (or time)
+    curve, slider, play, readout.
 
     ``node``/``dof`` choose the curve's abscissa; ``options`` go to :class:`Explorer`
-    (``scale``, ``forces``, ``max_frames``, ``width``, ``height``, ``play_seconds``).
+    (``scale``, ``forces``, ``max_frames``, ``width``, ``height``, ``play_seconds``,
+    ``time``, ``frequencies``).
     """
     return Explorer(path, node, dof, **options)

@@ -232,7 +232,8 @@ def test_widgets_in_jupyterlab(lab, record_property):
             page.wait_for_function("c => (c.dataset.hover || '').length > 0",
                                    arg=canvas.element_handle(), timeout=5_000)
             hover = canvas.get_attribute("data-hover")
-            assert hover.startswith(f"node {tip}") and "ux = " in hover and "uy = " in hover, hover
+            # the pole's tip is named "top" (lighting_pole names its nodes)
+            assert hover.startswith(("top", f"node {tip}")) and "ux = " in hover and "uy = " in hover, hover
             explorer.screenshot(path=str(shots / "explorer.png"))
             if os.environ.get("LARGEROT_SCREENSHOT"):
                 shutil.copy(shots / "explorer.png", os.environ["LARGEROT_SCREENSHOT"])
@@ -295,6 +296,22 @@ def test_widgets_in_jupyterlab(lab, record_property):
             text = forces.locator(".largerot-readout").inner_text()
             assert "min N = " in text and "max N = " in text
             forces.screenshot(path=str(shots / "forces-N.png"))
+
+            # -- the model as built (names, loads with units) and frequency against λ ------
+            model = _cell(page, "model-frequency")
+            mcanvas = model.locator(".largerot-canvas")
+            page.wait_for_function("c => (c.dataset.labels || '').includes('knee')",
+                                   arg=mcanvas.element_handle(), timeout=10_000)
+            labels = mcanvas.get_attribute("data-labels")
+            assert "λ×fx 60, fy -10 kN" in labels and "right foot" in labels, labels
+            assert "line load qy -2 kN/m" in model.locator(".largerot-model-notes").inner_text()
+            assert "f1 = " in model.locator(".largerot-readout").inner_text()
+            model.screenshot(path=str(shots / "explorer-model-frequency.png"))
+            # -- a motion: time axis, real-time play ------------------------------------
+            motion = _cell(page, "motion")
+            assert "t = " in motion.locator(".largerot-readout").inner_text()
+            assert "real time" in motion.inner_text()
+            motion.screenshot(path=str(shots / "explorer-motion.png"))
 
             # -- the live panel in each state --------------------------------------------
             for name, state, on in [("live-idle", "idle", ["step", "run"]),
