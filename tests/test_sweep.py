@@ -136,8 +136,11 @@ def test_a_click_on_a_plotted_point_opens_its_case(tmp_path):
     # a click on a case the table does not have is shown in the panel, not raised
     panel.plot._handle_custom_msg({"event": "click", "case": 7}, [])
     assert "no case 7" in panel.error and panel.case.value == 1
+    assert "no case 7" in panel.errors.message and "Traceback" in panel.errors.details
     panel.plot._handle_custom_msg({"event": "hover", "case": 0}, [])    # not a click: ignored
     assert panel.case.value == 1
+    panel.plot._handle_custom_msg({"event": "click", "case": 0}, [])    # a good case clears it
+    assert panel.error == "" and panel.errors.message == "" and panel.case.value == 0
 
 
 def test_an_unlocated_critical_point_gives_no_load_in_the_summary():

@@ -27,7 +27,7 @@ import traitlets as t
 from ..errors import ModelError
 from ..solvers.controls import StepControl, trace
 from ..storage import load
-from ._errors import shown_in_widget
+from ._errors import ErrorBox, shown_in_widget
 from .explorer import Explorer
 
 __all__ = ["SweepPanel", "SweepPlot", "sweep_panel"]
@@ -110,7 +110,7 @@ class SweepPanel(w.VBox):
         self.plot = SweepPlot(x_label=str(x), y_label=str(y))
         self.explorer = Explorer()
         self.error = ""
-        self.errors = w.Output(layout=w.Layout(display="none"))
+        self.errors = ErrorBox()                  # one line, the traceback behind "details"
         super().__init__(children=[self.plot, w.HBox([self.case, self.open_button]), self.status,
                                    self.errors, self.explorer])
         self.case.observe(self._case_changed, "value")
@@ -171,6 +171,8 @@ class SweepPanel(w.VBox):
         self.path = path
         self.explorer.show(path, *self._curve, index="last")
         self.status.value = f"case {i} ({how}): {len(path)} points, {path.status}"
+        self.error = ""
+        self.errors.clear()
         return path
 
     def _parameters(self) -> list:
