@@ -83,38 +83,6 @@ class _Labels:
             placed.append(box)
 
 
-def _support(ax, x: float, y: float, held: tuple, h: float) -> None:
-    """Clamp (hatched block), pin (triangle), roller (triangle on wheels), held rotation (square)."""
-    c = MODEL_COLOURS["support"]
-    kw = dict(color=c, lw=1.2, zorder=5, solid_capstyle="butt")
-    hx, hy, hr = held
-    if hx and hy:
-        if hr:
-            ax.fill([x - h, x + h, x + h, x - h], [y, y, y - 0.45 * h, y - 0.45 * h], color=c, zorder=5)
-            base = y - 0.45 * h
-        else:
-            ax.fill([x, x - 0.8 * h, x + 0.8 * h], [y, y - 1.3 * h, y - 1.3 * h],
-                    facecolor="white", edgecolor=c, lw=1.2, zorder=5)
-            base = y - 1.3 * h
-        ax.plot([x - 1.3 * h, x + 1.3 * h], [base, base], **kw)
-        for t in np.linspace(-1.1, 1.3, 6):
-            ax.plot([x + t * h, x + (t - 0.4) * h], [base, base - 0.5 * h], **kw)
-    elif hx or hy:
-        d = np.array([0.0, -1.0]) if hy else np.array([-1.0, 0.0])
-        p = np.array([-d[1], d[0]])
-        o = np.array([x, y])
-        tri = np.array([o, o + 1.1 * h * d + 0.7 * h * p, o + 1.1 * h * d - 0.7 * h * p])
-        ax.fill(tri[:, 0], tri[:, 1], facecolor="white", edgecolor=c, lw=1.2, zorder=5)
-        for q in (-0.4, 0.4):
-            w = o + 1.4 * h * d + q * h * p
-            ax.plot([w[0]], [w[1]], "o", ms=3.5, mfc="white", mec=c, zorder=5)
-        g = o + 1.75 * h * d
-        ax.plot([g[0] - 1.1 * h * p[0], g[0] + 1.1 * h * p[0]],
-                [g[1] - 1.1 * h * p[1], g[1] + 1.1 * h * p[1]], **kw)
-    if hr and not (hx and hy):
-        ax.plot([x], [y], "s", ms=7, mfc="none", mec=c, mew=1.5, zorder=6)
-
-
 def _spring(ax, x: float, y: float, dof: int, h: float) -> np.ndarray:
     """A zig-zag to the ground along x or y, or a spiral for a rotation; returns its far end."""
     col = MODEL_COLOURS["spring"]
@@ -224,10 +192,13 @@ def plot_model(structure, ax=None, *, node_labels: bool = True, member_labels: b
             labels.add(xy[n], name if name is not None else str(int(n)), fontsize=8,
                        fontweight="bold" if name is not None else "normal")
 
-    # supports and springs
+    # supports and springs (the symbols plotting draws; imported here, as plotting imports
+    # this module)
+    from .plotting import _draw_obstacles, draw_support
     fixed = set(model.fixed.tolist())
     for n in sorted({g // 3 for g in fixed}):
-        _support(ax, *xy[n], tuple(3 * n + k in fixed for k in range(3)), h)
+        draw_support(ax, *xy[n], tuple(3 * n + k in fixed for k in range(3)), h,
+                     MODEL_COLOURS["support"])
     for g, k in zip(*model.spring_table()):
         n, d = int(g) // 3, int(g) % 3
         end = _spring(ax, *xy[n], d, h)
@@ -237,11 +208,7 @@ def plot_model(structure, ax=None, *, node_labels: bool = True, member_labels: b
 
     if loads:
         reach += _draw_loads(ax, model, labels, h, size)
-    try:
-        from .plotting import _draw_obstacles
-        _draw_obstacles(ax, model)
-    except ImportError:         # plotting is optional for this figure
-        pass
+    _draw_obstacles(ax, model)
 
     pad = 0.12 * size
     every = np.vstack(reach)

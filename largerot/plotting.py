@@ -145,40 +145,45 @@ def _draw_lines(ax, lines: dict, **style):
 
 
 def _draw_supports(ax, structure: Structure, size: float):
-    """Support symbols: a hatched block (clamp), triangle (pin), triangle on wheels (roller)."""
+    """Support symbols of every restrained node (:func:`draw_support`)."""
     fixed = set(structure.fixed_dofs().tolist())
     xy = structure.xy
-    h = 0.035 * size
-    kw = dict(color=SUPPORT, lw=1.3, zorder=5, solid_capstyle="butt")
     for n in sorted({int(g) // 3 for g in fixed}):
-        hx, hy, hr = (3 * n + k in fixed for k in range(3))
-        x, y = xy[n]
-        if hx and hy:
-            if hr:
-                ax.fill([x - h, x + h, x + h, x - h], [y, y, y - 0.4 * h, y - 0.4 * h],
-                        color=SUPPORT, zorder=5)
-                base = y - 0.4 * h
-            else:
-                ax.fill([x, x - 0.8 * h, x + 0.8 * h], [y, y - 1.3 * h, y - 1.3 * h],
-                        facecolor="white", edgecolor=SUPPORT, lw=1.3, zorder=5)
-                base = y - 1.3 * h
-            ax.plot([x - 1.3 * h, x + 1.3 * h], [base, base], **kw)
-            for t in np.linspace(-1.1, 1.3, 6):
-                ax.plot([x + t * h, x + (t - 0.4) * h], [base, base - 0.5 * h], **kw)
-        elif hx or hy:
-            d = np.array([0.0, -1.0]) if hy else np.array([-1.0, 0.0])
-            p = np.array([-d[1], d[0]])
-            c = np.array([x, y])
-            tri = np.array([c, c + 1.1 * h * d + 0.7 * h * p, c + 1.1 * h * d - 0.7 * h * p])
-            ax.fill(tri[:, 0], tri[:, 1], facecolor="white", edgecolor=SUPPORT, lw=1.3, zorder=5)
-            for q in (-0.4, 0.4):
-                w = c + 1.4 * h * d + q * h * p
-                ax.plot([w[0]], [w[1]], "o", ms=3.5, mfc="white", mec=SUPPORT, zorder=5)
-            g = c + 1.75 * h * d
-            ax.plot([g[0] - 1.1 * h * p[0], g[0] + 1.1 * h * p[0]],
-                    [g[1] - 1.1 * h * p[1], g[1] + 1.1 * h * p[1]], **kw)
-        if hr and not (hx and hy):
-            ax.plot([x], [y], "s", ms=6, mfc=SUPPORT, mec=SUPPORT, zorder=6)
+        draw_support(ax, *xy[n], tuple(3 * n + k in fixed for k in range(3)), 0.035 * size)
+
+
+def draw_support(ax, x: float, y: float, held: tuple, h: float, color: str = SUPPORT) -> None:
+    """One support symbol at (x, y), ``h`` its size: a hatched block (clamp), a triangle
+    (pin), a triangle on wheels (roller, toward the restrained direction), a square for
+    a held rotation alone; ``held`` says which of ux, uy, rz are restrained."""
+    hx, hy, hr = held
+    kw = dict(color=color, lw=1.3, zorder=5, solid_capstyle="butt")
+    if hx and hy:
+        if hr:
+            ax.fill([x - h, x + h, x + h, x - h], [y, y, y - 0.4 * h, y - 0.4 * h],
+                    color=color, zorder=5)
+            base = y - 0.4 * h
+        else:
+            ax.fill([x, x - 0.8 * h, x + 0.8 * h], [y, y - 1.3 * h, y - 1.3 * h],
+                    facecolor="white", edgecolor=color, lw=1.3, zorder=5)
+            base = y - 1.3 * h
+        ax.plot([x - 1.3 * h, x + 1.3 * h], [base, base], **kw)
+        for t in np.linspace(-1.1, 1.3, 6):
+            ax.plot([x + t * h, x + (t - 0.4) * h], [base, base - 0.5 * h], **kw)
+    elif hx or hy:
+        d = np.array([0.0, -1.0]) if hy else np.array([-1.0, 0.0])
+        p = np.array([-d[1], d[0]])
+        c = np.array([x, y])
+        tri = np.array([c, c + 1.1 * h * d + 0.7 * h * p, c + 1.1 * h * d - 0.7 * h * p])
+        ax.fill(tri[:, 0], tri[:, 1], facecolor="white", edgecolor=color, lw=1.3, zorder=5)
+        for q in (-0.4, 0.4):
+            w = c + 1.4 * h * d + q * h * p
+            ax.plot([w[0]], [w[1]], "o", ms=3.5, mfc="white", mec=color, zorder=5)
+        g = c + 1.75 * h * d
+        ax.plot([g[0] - 1.1 * h * p[0], g[0] + 1.1 * h * p[0]],
+                [g[1] - 1.1 * h * p[1], g[1] + 1.1 * h * p[1]], **kw)
+    if hr and not (hx and hy):
+        ax.plot([x], [y], "s", ms=6, mfc=color, mec=color, zorder=6)
 
 
 def _slack_mask(path: EquilibriumPath, i: int) -> np.ndarray:
