@@ -70,6 +70,8 @@ class ChordFit:
     used : ndarray of int, shape (m,)
         Free-DOF indices of the fitted translations (at an inclined roller, the one
         along its direction, entering the chords' x and y by its cosine and sine).
+    dense : ndarray, shape (m, 2n), or None
+        (GᵀWG + εI)⁻¹·GᵀW when m ≤ ``DENSE_FIT_MAX``: the fit as one product.
     """
 
     def __init__(self, assembly) -> None:
