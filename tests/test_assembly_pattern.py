@@ -87,7 +87,7 @@ def _check(dofmaps, free_index, seed=0):
     np.testing.assert_array_equal(indices, ref.indices)
     data = np.zeros(nnz + 1)
     for pos, w in zip(positions, weights):
-        assert pos.dtype == np.int64 and pos.shape == w.shape
+        assert pos.dtype == np.int32 and pos.shape == w.shape    # the CSC index type
         data += np.bincount(pos, weights=w, minlength=nnz + 1)
     np.testing.assert_array_equal(data[:nnz], ref.data)
     # the dump slot gets exactly the entries whose row or column is constrained
