@@ -51,3 +51,18 @@ def arrays_of(obj) -> dict:
     state.pop("_u_full", None)
     walk(state, "")
     return out
+
+
+def saved_and_loaded(tmp_path, structure, path):
+    """Save a structure and its path, load both back, assert every array of each equal
+    (the same names, bit for bit); returns the loaded ``(structure, path)``."""
+    import largerot as lr
+    lr.save(structure, tmp_path / "s.lr")
+    lr.save(path, tmp_path / "p.lr")
+    s2, path2 = lr.load(tmp_path / "s.lr"), lr.load(tmp_path / "p.lr")
+    for x, y in ((structure, s2), (path, path2)):
+        a1, a2 = arrays_of(x), arrays_of(y)
+        assert a1.keys() == a2.keys()
+        for k in a1:
+            np.testing.assert_array_equal(a1[k], a2[k])
+    return s2, path2

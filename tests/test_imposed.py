@@ -10,7 +10,7 @@ import pytest
 
 import largerot as lr
 from largerot.solvers.problem import Problem
-from tests.helpers import arrays_of
+from tests.helpers import saved_and_loaded
 
 L, EI, EA = 1.0, 2.0, 2.0e4
 N_EL = 40
@@ -182,14 +182,7 @@ def test_imposed_displacements_round_trip_through_save_and_load(tmp_path):
     s, _, b = rolled_cantilever()
     s.impose(b, "ux", -0.01, constant=True)
     path = lr.trace(s, lr.by_load(0.25), max_steps=2)
-    lr.save(s, tmp_path / "s.lr")
-    lr.save(path, tmp_path / "p.lr")
-    s2, path2 = lr.load(tmp_path / "s.lr"), lr.load(tmp_path / "p.lr")
-    for x, y in ((s, s2), (path, path2)):
-        a1, a2 = arrays_of(x), arrays_of(y)
-        assert a1.keys() == a2.keys()
-        for k in a1:
-            np.testing.assert_array_equal(a1[k], a2[k])
+    s2, path2 = saved_and_loaded(tmp_path, s, path)
     np.testing.assert_array_equal(path2.model.imposed_ref, path.model.imposed_ref)
     np.testing.assert_array_equal(path2.u, path.u)
     again = lr.trace(s2, lr.by_load(0.25), max_steps=2)

@@ -6,7 +6,7 @@ import pytest
 
 import largerot as lr
 from largerot.solvers.problem import Problem
-from tests.helpers import arrays_of, residual_jacobian
+from tests.helpers import residual_jacobian, saved_and_loaded
 
 L, EI, EA = 2.0, 3.0, 3.0e4
 SLOPE = math.radians(30.0)
@@ -116,14 +116,7 @@ def test_a_horizontal_roller_is_a_vertical_support():
 def test_rollers_round_trip_through_save_and_load(tmp_path):
     s, _, B, _ = sloped_beam(0.1)
     path = lr.trace(s, lr.by_load(0.5), max_steps=2)
-    lr.save(s, tmp_path / "s.lr")
-    lr.save(path, tmp_path / "p.lr")
-    s2, path2 = lr.load(tmp_path / "s.lr"), lr.load(tmp_path / "p.lr")
-    for x, y in ((s, s2), (path, path2)):
-        a1, a2 = arrays_of(x), arrays_of(y)
-        assert a1.keys() == a2.keys()
-        for k in a1:
-            np.testing.assert_array_equal(a1[k], a2[k])
+    s2, path2 = saved_and_loaded(tmp_path, s, path)
     np.testing.assert_array_equal(path2.inclined_reactions(-1), path.inclined_reactions(-1))
     np.testing.assert_array_equal(lr.trace(s2, lr.by_load(0.5), max_steps=2).u, path.u)
 
