@@ -11,8 +11,9 @@ def arch_or_trouble(rise, trouble=""):
     """The arch, or a case that raises, has bad parameters, or traces slowly."""
     if trouble == "raise":
         raise RuntimeError("the build function broke")
-    # "slow": 3,000 elements, about 0.1 s a point against 0.004 s for 12
-    return examples.shallow_arch(rise=rise, segments=3000 if trouble == "slow" else 12).structure
+    # "slow": 9,000 elements, about 0.17 s a point (40 points 6.9 s) against 0.004 s for 12;
+    # 3,000 elements had become fast enough (40 points in 1.6 s) to race a 1.5 s timeout
+    return examples.shallow_arch(rise=rise, segments=9000 if trouble == "slow" else 12).structure
 
 
 def imperfect_arch(amplitude, rise=0.3, segments=32):
