@@ -9,7 +9,6 @@ only scatters numbers with one ``bincount``.
 """
 from __future__ import annotations
 
-import copy
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,6 +16,7 @@ import scipy.sparse as sp
 
 from .errors import ModelError
 from .groups import Group, build_groups, build_loads
+from .linalg import with_data
 from .mesh_check import check_resolution
 from .model import DOFS
 from .snapshot import Model
@@ -412,9 +412,7 @@ class Assembly:
         if template is None:
             template = self._template = sp.csc_matrix(
                 (np.zeros(self.nnz), self.indices, self.indptr), shape=(self.n_free, self.n_free))
-        K = copy.copy(template)
-        K.data = data[:-1]
-        return K
+        return with_data(template, data[:-1])
 
     def evaluate(self, u: np.ndarray, states: list, tangent: bool = True, lam: float | None = None,
                  const_factor: float = 1.0) -> Evaluation:

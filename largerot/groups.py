@@ -116,6 +116,11 @@ class Group:
     def initial_state(self):
         return None
 
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state.pop("_kernel", None)            # a cache of constant data, rebuilt on use
+        return state
+
     def evaluate(self, ue: np.ndarray, state, tangent: bool = True) -> GroupResult:
         raise NotImplementedError
 
@@ -270,12 +275,20 @@ class BeamGroup(Group):
     def __post_init__(self) -> None:
         self.table, self.name = "beam", "beam"
 
+    @property
+    def kernel(self) -> beam.Beams:
+        """The group's beams with their constant data prepared (built on first use)."""
+        k = self.__dict__.get("_kernel")
+        if k is None:
+            k = self._kernel = beam.Beams(self.dX, self.L0, self.EA, self.EI, self.bending)
+        return k
+
     def evaluate(self, ue, state=None, tangent=True) -> GroupResult:
-        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, tangent, self.bending)
+        res = self.kernel.response(ue, tangent)
         return GroupResult(res.f, res.K, None, {"q": res.q, "l": res.l})
 
     def end_forces(self, ue, record):
-        res = beam.response(self.dX, self.L0, ue, self.EA, self.EI, False, self.bending)
+        res = self.kernel.response(ue, False)
         return _beam_end_forces(res.q, res.l)
 
     def held(self):

@@ -5,6 +5,7 @@ import signal
 import subprocess
 import sys
 import textwrap
+import time
 
 import numpy as np
 import pytest
@@ -147,10 +148,13 @@ def test_an_interrupt_at_random_moments_leaves_a_consistent_trace_that_goes_on()
     s.fix(a)
     s.load(b, fy=-31.25e3 / 2.0)
     ref = lr.trace(s, lr.by_load(0.05), target_load_factor=0.9)
-    total = 0.05                                      # about the whole trace's time here
+    st = lr.by_load(0.05).stepper(s, target_load_factor=0.9)
+    t0 = time.perf_counter()
+    lr.run(st)
+    total = time.perf_counter() - t0                  # the run's own time on this machine
     rng = np.random.default_rng(7)
     interrupted = 0
-    for delay in rng.uniform(0.001, total, 12):
+    for delay in rng.uniform(0.02, 0.9, 12) * total:
         st = lr.by_load(0.05).stepper(s, target_load_factor=0.9)
         _interrupt_after(delay)
         try:

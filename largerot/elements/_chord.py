@@ -32,8 +32,45 @@ def chord(dX: np.ndarray, du: np.ndarray, L0: np.ndarray):
     """
     x = dX + du
     l = np.hypot(x[:, 0], x[:, 1])
-    chord0 = np.hypot(dX[:, 0], dX[:, 1])
-    misfit = (chord0 - L0) * (chord0 + L0)
-    stretch = (misfit + 2.0 * np.einsum("ei,ei->e", dX, du)
-               + np.einsum("ei,ei->e", du, du)) / (l + L0)
+    stretch = stretch_of(length_misfit(dX, L0), dX, du, l, L0)
     return l, stretch, x[:, 0] / l, x[:, 1] / l
+
+
+def length_misfit(dX: np.ndarray, L0: np.ndarray) -> np.ndarray:
+    """|dX|² − L0² as (|dX| − L0)(|dX| + L0), shape (n_elements,) (see :func:`chord`)."""
+    chord0 = np.hypot(dX[:, 0], dX[:, 1])
+    return (chord0 - L0) * (chord0 + L0)
+
+
+def stretch_of(misfit: np.ndarray, dX: np.ndarray, du: np.ndarray, l: np.ndarray,
+               L0: np.ndarray) -> np.ndarray:
+    """``l - L0`` without cancellation (see :func:`chord`), shape (n_elements,)."""
+    return (misfit + 2.0 * np.einsum("ei,ei->e", dX, du)
+            + np.einsum("ei,ei->e", du, du)) / (l + L0)
+
+
+def as_complex(v: np.ndarray) -> np.ndarray:
+    """Planar vectors (n, 2) as complex numbers x + iy, shape (n,) (a view when
+    ``v`` is C-contiguous float64)."""
+    return np.ascontiguousarray(v, dtype=float).view(complex)[:, 0]
+
+
+def chord_turn(conj_dX: np.ndarray, length2: np.ndarray, du: np.ndarray) -> np.ndarray:
+    """Angle α by which each chord dX + du is turned from dX, shape (n_elements,).
+
+    α = atan2(dX × du, |dX|² + dX·du), both read off conj(dX)·du: exactly zero for
+    du = 0 and accurate to round-off *relative to α* for small turns at any chord
+    angle (a difference of the two chord angles has an absolute error of eps·π,
+    which at small loads on stiff members is the whole bending moment's round-off).
+
+    Parameters
+    ----------
+    conj_dX : ndarray of complex, shape (n_elements,)
+        conj(dX_x + i·dX_y).
+    length2 : ndarray, shape (n_elements,)
+        |dX|².
+    du : ndarray of complex, shape (n_elements,)
+        Change of the chord, end 2 minus end 1.
+    """
+    p = conj_dX * du
+    return np.arctan2(p.imag, length2 + p.real)

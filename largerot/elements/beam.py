@@ -20,9 +20,9 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ._chord import chord
+from ._chord import as_complex, chord, chord_turn, length_misfit, stretch_of
 
-__all__ = ["BeamResponse", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
+__all__ = ["BeamResponse", "Beams", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
 
 N_DOF = 6
 NODE_DOFS = (0, 1, 2)
@@ -37,15 +37,72 @@ class BeamResponse(NamedTuple):
     l: np.ndarray          #: current chord length, shape (n_elements,)
 
 
-def local_rotations(dX: np.ndarray, u: np.ndarray, c: np.ndarray, s: np.ndarray):
-    """End rotations relative to the current chord, each shape (n_elements,)."""
-    L = np.hypot(dX[:, 0], dX[:, 1])
-    c0, s0 = dX[:, 0] / L, dX[:, 1] / L
-    ca, sa = (c * c0 + s * s0)[:, None], (s * c0 - c * s0)[:, None]   # rigid rotation α
-    rz = u[:, 2::3]                                   # both ends at once: (n_elements, 2)
-    cr, sr = np.cos(rz), np.sin(rz)
-    t = np.arctan2(sr * ca - cr * sa, cr * ca + sr * sa)
+_TWO_PI = 2.0 * np.pi
+
+
+def _relative(rz: np.ndarray, alpha: np.ndarray) -> np.ndarray:
+    """rz − α wrapped to [−π, π], shape like ``rz`` (n_elements, 2); exact (no
+    wrap, no rounding beyond the difference) for the usual |rz − α| < π."""
+    t = rz - alpha[:, None]
+    turns = np.rint(t * (1.0 / _TWO_PI))
+    return t - _TWO_PI * turns if turns.any() else t
+
+
+def local_rotations(dX: np.ndarray, u: np.ndarray):
+    """End rotations relative to the current chord, each shape (n_elements,), from the
+    undeformed chords dX (n_elements, 2) and end displacements u (n_elements, 6)."""
+    dXc = as_complex(dX)
+    alpha = chord_turn(np.conj(dXc), (dXc * np.conj(dXc)).real,
+                       as_complex(u[:, 3:5] - u[:, 0:2]))
+    t = _relative(u[:, 2::3], alpha)                          # both ends at once
     return t[:, 0], t[:, 1]
+
+
+class Beams:
+    """Corotational beams with their constant data prepared once (a group's kernel).
+
+    :func:`response` for the same arguments, without recomputing per call what does
+    not change along a path (undeformed chords, stiffness factors, the material part
+    of the local tangent): on the small models people re-trace interactively the
+    kernel is call overhead, not arithmetic.
+
+    Parameters
+    ----------
+    dX : ndarray, shape (n_elements, 2)
+    L0, EA, EI : ndarray, shape (n_elements,)
+    bending : ndarray, shape (n_elements, 2, 2), optional
+        As for :func:`response`.
+    """
+
+    def __init__(self, dX, L0, EA, EI, bending=None) -> None:
+        self.dX = np.ascontiguousarray(dX, dtype=float)
+        self.L0 = np.asarray(L0, dtype=float)
+        self.n = n = len(self.L0)
+        dXc = as_complex(self.dX)                             # chords as x + iy
+        self.misfit = length_misfit(self.dX, self.L0)
+        self.dXc, self.conj_dX = dXc, np.conj(dXc)
+        self.length2 = (dXc * self.conj_dX).real
+        self.ka, kb = EA / self.L0, EI / self.L0
+        self.kB = kb[:, None, None] * (_BENDING[1:, 1:] if bending is None else bending)
+        self.material = np.zeros((n, 4, 4))                   # H's constant part
+        self.material[:, 0, 0] = self.ka
+        self.material[:, 1:3, 1:3] = self.kB
+
+    def response(self, u: np.ndarray, tangent: bool = True) -> BeamResponse:
+        """Internal forces and tangent at end displacements ``u``, shape (n_elements, 6)."""
+        du = u[:, 3:5] - u[:, 0:2]                            # new, contiguous
+        duc = du.view(complex)[:, 0]
+        x = self.dXc + duc
+        l = np.abs(x)
+        stretch = stretch_of(self.misfit, self.dX, du, l, self.L0)
+        cs = x / l
+        t = _relative(u[:, 2::3], chord_turn(self.conj_dX, self.length2, duc))
+        q = np.empty((self.n, 3))
+        np.multiply(self.ka, stretch, out=q[:, 0])
+        q[:, 1:] = np.einsum("eij,ej->ei", self.kB, t)
+        H = self.material.copy() if tangent else None
+        f, K = _global(cs.view(float).reshape(self.n, 2), l, q, H)
+        return BeamResponse(q, f, K, l)
 
 
 def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
@@ -69,34 +126,37 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
         (:func:`largerot.elements.releases.bending_factors`); default the rigidly
         connected [[4, 2], [2, 4]].
     """
-    l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
-    t1, t2 = local_rotations(dX, u, c, s)
-    ka, kb = EA / L0, EI / L0
-    q = np.empty((len(l), 3))
-    q[:, 0] = ka * stretch
-    if bending is not None:
-        return _released(q, ka, kb[:, None, None] * bending, t1, t2, c, s, l, tangent)
-    q[:, 1] = kb * (4.0 * t1 + 2.0 * t2)
-    q[:, 2] = kb * (2.0 * t1 + 4.0 * t2)
-    k = None
-    if tangent:
-        k = kb[:, None, None] * _BENDING
-        k[:, 0, 0] = ka
-    f, K = corotate(c, s, l, q, k)
-    return BeamResponse(q, f, K, l)
+    return Beams(dX, L0, EA, EI, bending).response(np.asarray(u, dtype=float), tangent)
 
 
-def _released(q, ka, kB, t1, t2, c, s, l, tangent) -> BeamResponse:
-    """The rest of :func:`response` for a bending stiffness kB, shape (n_elements, 2, 2)."""
-    q[:, 1] = kB[:, 0, 0] * t1 + kB[:, 0, 1] * t2
-    q[:, 2] = kB[:, 1, 0] * t1 + kB[:, 1, 1] * t2
-    k = None
-    if tangent:
-        k = np.zeros((len(l), 3, 3))
-        k[:, 1:, 1:] = kB
-        k[:, 0, 0] = ka
-    f, K = corotate(c, s, l, q, k)
-    return BeamResponse(q, f, K, l)
+#: C = (r, b1, b2, z) of :func:`corotate`, shape (4, 6), as a product coef·_C_BASIS with
+#: coef = (1, c, s, c/l, s/l) per element: one small matrix product instead of a dozen
+#: slice writes
+_C_BASIS = np.zeros((5, 4, 6))
+_C_BASIS[0, 1, 2] = _C_BASIS[0, 2, 5] = 1.0                   # b1, b2: drz1, drz2
+_C_BASIS[1, 0, [0, 3]] = -1.0, 1.0                            # r = (−c, −s, 0, c, s, 0)
+_C_BASIS[2, 0, [1, 4]] = -1.0, 1.0
+for _row, _sign in ((3, 1.0), (1, -1.0), (2, -1.0)):          # z = (s, −c, 0, −s, c, 0)/l,
+    _C_BASIS[4, _row, [0, 3]] = _sign, -_sign                 # b1 = b2 = −z beside
+    _C_BASIS[3, _row, [1, 4]] = -_sign, _sign
+_C_BASIS = _C_BASIS.reshape(5, 24)
+
+
+def _global(cs: np.ndarray, l: np.ndarray, q: np.ndarray, H: np.ndarray | None):
+    """f and K of :func:`corotate` from cs = (c, s), shape (n, 2), and H's local part
+    (k in its upper-left block, zeros elsewhere; completed here), or None."""
+    n = len(l)
+    coef = np.empty((n, 5))
+    coef[:, 0] = 1.0
+    coef[:, 1:3] = cs
+    np.divide(cs, l[:, None], out=coef[:, 3:5])
+    C = (coef @ _C_BASIS).reshape(n, 4, 6)
+    f = np.einsum("ea,eai->ei", q, C[:, :3])
+    if H is None:
+        return f, None
+    H[:, 0, 3] = H[:, 3, 0] = (q[:, 1] + q[:, 2]) / l
+    H[:, 3, 3] = q[:, 0] * l
+    return f, np.matmul(C.transpose(0, 2, 1), H @ C)
 
 
 def corotate(c, s, l, q, k=None):
@@ -121,24 +181,11 @@ def corotate(c, s, l, q, k=None):
         (n_elements, 4, 6), and H, shape (n_elements, 4, 4): k in its upper-left
         block, the geometric coefficients in its last row and column.
     """
-    # C filled in place: a few slice writes instead of stacks and copies (half the
-    # time at 100,000 elements, the calls' overhead at 40)
-    C = np.zeros((len(l), 4, 6))
-    r, z = C[:, 0], C[:, 3]
-    r[:, 0], r[:, 1], r[:, 3], r[:, 4] = -c, -s, c, s
-    zc, zs = c / l, s / l
-    z[:, 0], z[:, 1], z[:, 3], z[:, 4] = zs, -zc, -zs, zc
-    np.negative(z, out=C[:, 1])
-    np.negative(z, out=C[:, 2])
-    C[:, 1, 2] = C[:, 2, 5] = 1.0
-    f = np.einsum("ea,eai->ei", q, C[:, :3])
-    if k is None:
-        return f, None
-    H = np.zeros((len(l), 4, 4))
-    H[:, :3, :3] = k
-    H[:, 0, 3] = H[:, 3, 0] = (q[:, 1] + q[:, 2]) / l
-    H[:, 3, 3] = q[:, 0] * l
-    return f, np.matmul(C.transpose(0, 2, 1), H @ C)
+    H = None
+    if k is not None:
+        H = np.zeros((len(l), 4, 4))
+        H[:, :3, :3] = k
+    return _global(np.column_stack([c, s]), l, q, H)
 
 
 def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9,
@@ -156,7 +203,7 @@ def curve(X1: np.ndarray, dX: np.ndarray, u: np.ndarray, n_points: int = 9,
     """
     L0 = np.hypot(dX[:, 0], dX[:, 1])
     l, _, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
-    t1, t2 = local_rotations(dX, u, c, s)
+    t1, t2 = local_rotations(dX, u)
     if rotation_map is not None:
         A = rotation_map
         t1, t2 = A[:, 0, 0] * t1 + A[:, 0, 1] * t2, A[:, 1, 0] * t1 + A[:, 1, 1] * t2

@@ -140,7 +140,7 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, table: FibreTable,
     if np.ndim(table.y) == 2:
         table = FibreTable(*(a[:, None, :] for a in table))
     l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
-    t1, t2 = local_rotations(dX, u, c, s)
+    t1, t2 = local_rotations(dX, u)
     g1, g2 = 6.0 * xi - 4.0, 6.0 * xi - 2.0                    # κ·L0 per unit θ1, θ2
     eps0 = np.broadcast_to((stretch / L0)[:, None], (len(L0), n_gauss))
     kappa = (t1[:, None] * g1 + t2[:, None] * g2) / L0[:, None]

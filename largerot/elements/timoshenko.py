@@ -97,7 +97,7 @@ def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray, EI: 
         force normal to it (M1 + M2)/l), as for the Euler–Bernoulli beam.
     """
     l, stretch, c, s = chord(dX, u[:, 3:5] - u[:, 0:2], L0)
-    t1, t2 = local_rotations(dX, u, c, s)
+    t1, t2 = local_rotations(dX, u)
     S = shear_stiffness(L0, EI, GAs)
     lam = l / L0
     tb = 0.5 * (t1 + t2)

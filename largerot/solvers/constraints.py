@@ -16,6 +16,8 @@ trial point; the displacement correction is then δu = δu_r + δλ·δu_F.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 __all__ = ["Metric", "QuadraticConstraint", "PlaneConstraint", "LinearisedConstraint"]
@@ -28,10 +30,10 @@ class Metric:
         self.w2, self.s2 = w2, float(s2)
 
     def dot(self, du1, dlam1, du2, dlam2) -> float:
-        return float(np.dot(du1 * self.w2, du2)) + self.s2 * dlam1 * dlam2
+        return float((du1 * self.w2) @ du2) + self.s2 * dlam1 * dlam2
 
     def norm(self, du, dlam) -> float:
-        return float(np.sqrt(max(self.dot(du, dlam, du, dlam), 0.0)))
+        return math.sqrt(max(self.dot(du, dlam, du, dlam), 0.0))
 
 
 class QuadraticConstraint:
@@ -52,19 +54,18 @@ class QuadraticConstraint:
         Du, Dlam = u - self.u0, lam - self.lam0
         v = Du + du_r
         wF, wv = du_F * m.w2, v * m.w2
-        a = float(np.dot(wF, du_F)) + m.s2                   # |δu_F|² + ψ²s²
-        b = 2.0 * (float(np.dot(wv, du_F)) + m.s2 * Dlam)
-        c = float(np.dot(wv, v)) + m.s2 * Dlam**2 - self.dl**2
+        a = float(wF @ du_F) + m.s2                          # |δu_F|² + ψ²s²
+        b = 2.0 * (float(wv @ du_F) + m.s2 * Dlam)
+        c = float(wv @ v) + m.s2 * Dlam**2 - self.dl**2
         disc = b * b - 4.0 * a * c
         if not (a > 0.0) or disc < 0.0:
             return LinearisedConstraint(m, self.u0, self.lam0, self.dl).delta_lam(du_r, du_F, u, lam)
-        sq = np.sqrt(disc)
-        q = -0.5 * (b + np.copysign(sq, b))                  # roots without cancellation
+        q = -0.5 * (b + math.copysign(math.sqrt(disc), b))   # roots without cancellation
         roots = [q / a, c / q] if q != 0.0 else [0.0, 0.0]
         if not (Du.any() or Dlam):
             return roots[0]
         # the angle of each new increment v + r·δu_F, Dlam + r with the current one
-        vD, FD = float(np.dot(wv, Du)), float(np.dot(wF, Du))
+        vD, FD = float(wv @ Du), float(wF @ Du)
         s0, s1 = (vD + r * FD + m.s2 * (Dlam + r) * Dlam for r in roots)
         return roots[0] if s0 >= s1 else roots[1]
 

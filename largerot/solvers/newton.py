@@ -68,7 +68,6 @@ accepted: it has stopped moving, short of the tolerance.
 """
 from __future__ import annotations
 
-import copy
 import logging
 import math
 from dataclasses import dataclass, field
@@ -76,7 +75,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from ..linalg import Factorization, SingularTangent, factor, shifted
+from ..linalg import Factorization, SingularTangent, factor, shifted, with_data
 from .problem import Problem
 
 __all__ = ["NewtonResult", "newton", "LoadConstraint", "DisplacementConstraint"]
@@ -172,17 +171,16 @@ class DisplacementConstraint:
 
 
 def _rate(res: list[float]) -> float:
-    r = np.asarray(res[-3:])
-    if len(r) < 3 or np.any(r <= 0) or r[1] >= r[0]:
+    r = [float(x) for x in res[-3:]]               # plain floats: called once per point
+    if len(r) < 3 or min(r) <= 0.0 or r[1] >= r[0] or r[2] == r[1]:
         return float("nan")
-    return float(np.log(r[2] / r[1]) / np.log(r[1] / r[0]))
+    return math.log(r[2] / r[1]) / math.log(r[1] / r[0])
 
 
 def roundoff_level(K, u: np.ndarray) -> float:
     """ρ = eps·‖|K|·|u|‖: the residual's round-off level at ``u``, shape (n_free,)."""
     if sp.issparse(K) and K.format in ("csc", "csr"):
-        absK = copy.copy(K)                  # the pattern shared: no validated new matrix
-        absK.data = np.abs(K.data)
+        absK = with_data(K, np.abs(K.data))  # the pattern shared: no validated new matrix
     else:
         absK = abs(K)
     return _EPS * float(np.linalg.norm(absK @ np.abs(u)))
@@ -335,7 +333,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         norm_r = math.sqrt(float(r @ r))
         ratio = norm_r / scale
         history.append(ratio)
-        if not np.isfinite(ratio):
+        if not math.isfinite(ratio):
             return NewtonResult(False, u, lam, k, np.array(history), "The residual is not finite.",
                                 line_searches=n_searches)
         try:
@@ -347,7 +345,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
                                 "The tangent is singular at a trial point.", line_searches=n_searches)
         du_r, du_F = fact.solve(r), fact.solve(problem.F)
         dlam = constraint.delta_lam(du_r, du_F, u, lam)
-        if dlam is None or not np.isfinite(dlam):
+        if dlam is None or not math.isfinite(dlam):
             return NewtonResult(False, u, lam, k, np.array(history),
                                 "The constraint equation has no solution at this trial point.",
                                 line_searches=n_searches)
@@ -386,7 +384,7 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
         s0 = float(du @ r)
         if s0 < 0.0:
             uphill = k
-        if s0 != 0.0 and np.isfinite(s0):
+        if s0 != 0.0 and math.isfinite(s0):
             s1 = float(du @ trial[0])
             n1 = math.sqrt(float(trial[0] @ trial[0]))
             if not (abs(s1) <= LS_ACCEPT * abs(s0) or n1 <= LS_RESIDUAL_DROP * norm_r):

@@ -71,13 +71,17 @@ class ChordFit:
         Free-DOF indices of the fitted translations (at an inclined roller, the one
         along its direction, entering the chords' x and y by its cosine and sine).
     dense : ndarray, shape (m, 2n), or None
-        (GᵀWG + εI)⁻¹·GᵀW when m ≤ ``DENSE_FIT_MAX``: the fit as one product.
+        (GᵀWG + εI)⁻¹·GᵀW when m ≤ ``DENSE_FIT_MAX`` (or ``dense=True`` is asked
+        for): the fit as one product; else the normal matrix's sparse LU, ``lu``.
+    ok : bool
+        False when there are no chords or the normal matrix is singular (no fit).
     """
 
-    def __init__(self, assembly) -> None:
+    def __init__(self, assembly, dense: bool | None = None) -> None:
         tables = [g.chords for g in assembly.groups]
         tables = [t for t in tables if t is not None and len(t[0])]
         self.empty = not tables
+        self.ok = False
         if self.empty:
             return
         self.dm = np.concatenate([t[0] for t in tables])        # (n, 4)
@@ -94,18 +98,45 @@ class ChordFit:
         vals = vals * np.where(rolls, assembly._roller_dir[node, np.minimum(d, 1)], 1.0)
         held = cols < 0                                        # a supported end stays put
         self.used, cols = np.unique(cols[~held], return_inverse=True)
-        G = sp.csc_matrix((vals[~held], (rows[~held], cols)), shape=(2 * n, len(self.used)))
+        rows, vals, m = rows[~held], vals[~held], len(self.used)
         self.w = np.repeat(k, 2)
-        self.GtW = (G.T @ sp.diags(self.w)).tocsr()
-        A = (self.GtW @ G + sp.identity(len(self.used)) * (ANCHOR * float(k.mean()))).tocsc()
-        try:
-            self.lu = spla.splu(A)
-        except RuntimeError as exc:                            # singular: no fit
-            log.debug("chord fit unavailable: %s", exc)
-            self.lu = None
-        self.dense = None                                      # (m, 2n): misfit -> δ
-        if self.lu is not None and len(self.used) <= DENSE_FIT_MAX:
-            self.dense = self.lu.solve(self.GtW.toarray())
+        eps = ANCHOR * float(k.mean())
+        self.lu = self.dense = None
+        if m <= DENSE_FIT_MAX if dense is None else dense:
+            # small models: all in numpy, no sparse construction (most of a small
+            # model's set-up) and the fit one product with a (m, 2n) matrix
+            G = np.zeros((2 * n, m))
+            np.add.at(G, (rows, cols), vals)
+            GtW = G.T * self.w
+            A = GtW @ G
+            A.flat[::m + 1] += eps
+            try:
+                dense = np.linalg.solve(A, GtW)
+                self.ok = bool(np.isfinite(dense).all())
+            except np.linalg.LinAlgError as exc:               # singular: no fit
+                log.debug("chord fit unavailable: %s", exc)
+            self.dense = dense if self.ok else None
+            self.gather = G
+        else:
+            G = sp.csc_matrix((vals, (rows, cols)), shape=(2 * n, m))
+            self.GtW = (G.T @ sp.diags(self.w)).tocsr()
+            A = (self.GtW @ G + sp.identity(m) * eps).tocsc()
+            try:
+                self.lu = spla.splu(A)
+                self.ok = True
+            except RuntimeError as exc:                        # singular: no fit
+                log.debug("chord fit unavailable: %s", exc)
+            self.gather = G.tocsr()
+        # the chords from the free unknowns: x = dX + G·u[used] + λ·a_ref + c·a_const,
+        # (2n,) in x, y per chord; a_* the imposed displacements' part (expanded's own
+        # rule, so rollers and imposed DOFs read as everywhere else), None without
+        self.chords0 = np.ascontiguousarray(self.dX).ravel()
+        self.imposed = None
+        model = assembly.model
+        if len(model.imposed):
+            zero = np.zeros(assembly.n_free)
+            parts = [model.expanded(assembly.free, zero, lam, cf) for lam, cf in ((1.0, 0.0), (0.0, 1.0))]
+            self.imposed = [(U[self.dm[:, 2:4]] - U[self.dm[:, 0:2]]).ravel() for U in parts]
 
     def solve(self, misfit: np.ndarray) -> np.ndarray:
         """The fitted translations' change δ, shape (m,), for a chord misfit (2n,)."""
@@ -150,30 +181,26 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray, lam0: float = 0.0
         when there are no beams or the fit fails.
     """
     fit = chord_fit(assembly)
-    if fit.empty or fit.lu is None:
+    if not fit.ok:
         return u1
-    dm, m, free = fit.dm, assembly.model, assembly.free
-    # full vectors in x, y: supports read zero, imposed DOFs their motion, rollers
-    # their displacement along the slope
-    U0 = m.expanded(free, u0, lam0, const_factor)
-    dU = m.expanded(free, u1 - u0, (lam0 if lam1 is None else lam1) - lam0, 0.0)
-    x0 = fit.dX + U0[dm[:, 2:4]] - U0[dm[:, 0:2]]
-    d = dU[dm[:, 2:4]] - dU[dm[:, 0:2]]
-    l0sq = np.einsum("ei,ei->e", x0, x0)
-    e = np.einsum("ei,ei->e", x0, d) / l0sq                 # Δl/l0
-    phi = (x0[:, 0] * d[:, 1] - x0[:, 1] * d[:, 0]) / l0sq  # Δφ
+    # chords at u0 and their increment, (2n,) each, then as x + iy per chord
+    base = u0[fit.used]
+    x0 = fit.chords0 + fit.gather @ base
+    d = fit.gather @ (u1[fit.used] - base)
+    if fit.imposed is not None:
+        a_ref, a_const = fit.imposed
+        x0 += lam0 * a_ref + const_factor * a_const
+        d += ((lam0 if lam1 is None else lam1) - lam0) * a_ref
+    z0, dz = x0.view(complex), d.view(complex)
+    w = dz / z0                                  # Δl/l0 + i·Δφ to first order
     if log.isEnabledFor(logging.DEBUG):
-        log.debug("chord fit: largest turn %.3g rad", float(np.abs(phi).max()))
-    # target chord − predicted one, (1 + e)·R(φ)·x0 − x0 − d, with (1 + e)·cos φ − 1
-    # written as e·cos φ − 2·sin²(φ/2): no 1 + e is formed, so a correction far below
+        log.debug("chord fit: largest turn %.3g rad", float(np.abs(w.imag).max()))
+    # target chord − predicted one: (1 + e)·e^{iφ}·z0 − z0 − dz, with (1 + e)·e^{iφ} − 1
+    # written as e·e^{iφ} + expm1(iφ): no 1 + e is formed, so a correction far below
     # the chord's round-off keeps its digits (and its axial part) instead of being
     # fitted away
-    along = e * np.cos(phi) - 2.0 * np.sin(0.5 * phi) ** 2
-    across = (1.0 + e) * np.sin(phi)
-    misfit = np.empty_like(x0)
-    misfit[:, 0] = along * x0[:, 0] - across * x0[:, 1] - d[:, 0]
-    misfit[:, 1] = across * x0[:, 0] + along * x0[:, 1] - d[:, 1]
-    misfit = misfit.ravel()                                # (2n,): chord x, y per element
+    turn = np.expm1(1j * w.imag)
+    misfit = (z0 * (w.real * (turn + 1.0) + turn) - dz).view(float)   # (2n,): x, y per chord
     delta = fit.solve(misfit)
     if not np.isfinite(delta).all():
         return u1

@@ -99,7 +99,7 @@ class Problem:
             self.F = self.F_loads - ev.Ku_ref[a.free]
         ext = self.external(lam)
         r = ext - ev.f[a.free]
-        scale = max(ev.scale, float(np.linalg.norm(ext)), _TINY)
+        scale = max(ev.scale, math.sqrt(float(ext @ ext)), _TINY)
         self._last = (u.copy(), float(lam), ev)
         return r, ev.K, scale
 
