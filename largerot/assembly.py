@@ -438,7 +438,8 @@ class Assembly:
             res = g.evaluate(u[g.dofmap], st, tangent)
             fg = np.bincount(g.dofmap.ravel(), weights=res.f.ravel(), minlength=self.n_dof)
             f = fg if f is None else np.add(f, fg, out=f)
-            scale2 += float(np.einsum("ij,ij->", res.f, res.f))
+            fr = res.f.ravel()
+            scale2 += float(fr @ fr)
             if tangent:
                 dg = np.bincount(pos, weights=res.K.ravel(), minlength=self.nnz + 1)
                 data = dg if data is None else np.add(data, dg, out=data)

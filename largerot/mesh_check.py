@@ -73,6 +73,8 @@ def beam_chains(model) -> tuple[np.ndarray, np.ndarray]:
 
 def check_resolution(model) -> None:
     """Warn (:class:`MeshWarning`) if a beam chain is longer than ``CHAIN_LIMIT`` elements."""
+    if len(model.beam_nodes) <= CHAIN_LIMIT:
+        return                               # no chain can be longer (and a small model's set-up stays short)
     labels, sizes = beam_chains(model)
     if not len(sizes) or sizes.max() <= CHAIN_LIMIT:
         return
