@@ -495,7 +495,8 @@ def build_child(n: int, repeat: int) -> dict:
     t_iter = best(newton_iter, repeat) / newton_iter()
     out = {"model": "lattice", "n_elements": int(len(s.element_table("beam")[0])),
            "first_build_s": first["build_s"], **best_build, "iteration_s": t_iter,
-           "ratio": best_build["build_s"] / t_iter, "peak_after_first_build_MB": peak,
+           "ratio": best_build["build_s"] / t_iter, "first_ratio": first["build_s"] / t_iter,
+           "peak_after_first_build_MB": peak,
            "memory_source": source}
     return out
 
@@ -657,8 +658,9 @@ def _latency_table(res, L):
 def _build_table(res, L):
     b = res["build"]
     L.append(f"\n6. Model build + first factorisation / one Newton iteration, {b['n_elements']}-element "
-             f"{b['model']} (fresh process)   goal ≤ {GOALS['build_ratio_max']:g}: "
-             f"{b['ratio']:.2f}")
+             f"{b['model']}   goal ≤ {GOALS['build_ratio_max']:g}: first build in a fresh process "
+             f"{b['first_build_s'] / b['iteration_s']:.2f}; a rebuild {b['ratio']:.2f} (best of repeats, "
+             f"the pattern's symbolic analysis and the process's memory reused)")
     L.append(f"   build {b['build_s']:.3f} s = structure {b['structure_s']:.3f} + snapshot and assembly "
              f"{b['assembly_s']:.3f} + first evaluation {b['evaluation_s']:.3f} + first factorisation "
              f"{b['factorization_s']:.3f} (best of repeats; the fresh process's first: "

@@ -124,7 +124,7 @@ def main() -> None:
         cpu = r["cpu"]
         print("    CPU per case: " + ", ".join(
             f"{side} {1e3 * cpu[side] / n:.1f} ms" for side in cpu if side != "pool")
-            + f" (Dask: workers + this process with its scheduler; the pool's workers not counted)")
+            + " (Dask: workers + this process with its scheduler; the pool's workers not counted)")
     for side, v in ratios.items():
         print(f"{side}: speed-up {min(v):.2f}–{max(v):.2f}× over {len(v)} repeats "
               f"(median {float(np.median(v)):.2f}×; goal ≥ 1.7×)")

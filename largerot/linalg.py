@@ -159,12 +159,19 @@ def _remember(K, perm) -> None:
 
 def scaled_norm(K: sp.spmatrix) -> float:
     """‖D^-½·|K|·D^-½‖₁ with D = |diag K| (zero diagonals count as one)."""
-    K = sp.csc_matrix(K)
+    if K.format != "csc":
+        K = sp.csc_matrix(K)               # a CSC tangent is read as it is (no copy)
     d = np.abs(K.diagonal())
     w = 1.0 / np.sqrt(np.where(d > 0, d, 1.0))
-    cols = np.repeat(np.arange(K.shape[1]), np.diff(K.indptr))
-    a = np.abs(K.data) * w[K.indices] * w[cols]
-    return float(np.bincount(cols, weights=a, minlength=K.shape[1]).max(initial=0.0))
+    # column sums of |K|·w[row], then × w[col]: no per-entry column array
+    a = np.abs(K.data)
+    a *= w[K.indices]
+    starts = K.indptr[:-1]
+    filled = starts < K.indptr[1:]
+    sums = np.zeros(K.shape[1])
+    if filled.any():
+        sums[filled] = np.add.reduceat(a, starts[filled])
+    return float((sums * w).max(initial=0.0))
 
 
 class Factorization:
@@ -309,7 +316,7 @@ class _Symbolic:
     def __init__(self, K: sp.csc_matrix) -> None:
         self.indptr_ref, self.indices_ref = K.indptr, K.indices
         n = K.shape[0]
-        cols = np.repeat(np.arange(n), np.diff(K.indptr))
+        cols = np.repeat(np.arange(n, dtype=K.indices.dtype), np.diff(K.indptr))
         self.upper = np.flatnonzero(K.indices <= cols)       # entries of triu(K), in order
         diagonal = np.flatnonzero(K.indices == cols)
         self.diagonal = diagonal if len(diagonal) == n else None   # None: a zero by pattern

@@ -1,7 +1,6 @@
 """Unbranched beam chains and the warning for meshes finer than the tangent resolves."""
 import warnings
 
-import numpy as np
 import pytest
 
 import largerot as lr

@@ -5,7 +5,6 @@ reported failure of Newton's method just past the peak when constant gravity loa
 make the path descend (kept as a strict expected failure until it is fixed).
 """
 import numpy as np
-import pytest
 
 import largerot as lr
 

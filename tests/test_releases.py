@@ -84,7 +84,6 @@ def test_released_beam_tangent_is_derivative_of_force(seed):
 def test_released_beam_rigid_motion_gives_no_force():
     # Objectivity (common practice, no source): a rigid turn of 2.3 rad and a shift.
     dX, L0, _, EA, EI, B = _random_released(7, n=4)
-    X1 = np.zeros((4, 2))
     th = 2.3
     R = np.array([[math.cos(th), -math.sin(th)], [math.sin(th), math.cos(th)]])
     u2 = dX @ R.T - dX + [0.4, -1.1]

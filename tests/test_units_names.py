@@ -232,7 +232,7 @@ def test_a_structure_saved_before_units_loads_in_si():
 def test_plot_model_labels_do_not_overlap():
     s = lr.Structure(units="kN-m")
     a, b = s.node(0, 0, name="base"), s.node(0, 4, name="top")
-    c, d = s.node(5, 4, name="tip"), s.node(5, 0, name="foot")
+    c, _ = s.node(5, 4, name="tip"), s.node(5, 0, name="foot")
     s.beam(a, b, SEC, 4, name="column")
     s.beam(b, c, SEC, 5, name="girder")
     s.bar("tip", "foot", SEC, name="strut")

@@ -5,7 +5,6 @@ inertia ρI, which the Euler–Bernoulli closed forms leave out, below 1e-7 of t
 frequencies (a relative effect of order (β·r/L)²; common practice, no source).
 """
 import math
-import warnings
 
 import numpy as np
 import pytest

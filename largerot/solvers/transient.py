@@ -360,7 +360,7 @@ def transient(structure, duration: float, *, dt: float | None = None, start=None
     0.02
     """
     from ..mass import mass_matrix
-    from .stepper import PathStepper, checked_option
+    from .stepper import checked_option
 
     if not hasattr(structure, "snapshot"):
         raise TypeError(f"Expected a largerot.Structure, got {structure!r}.")
@@ -408,7 +408,6 @@ def transient(structure, duration: float, *, dt: float | None = None, start=None
     f0 = ev.f[asm.free]
     F0 = p.external(lam0)
 
-    n_free = asm.n_free
     # one tuple per converged step, appended in one operation (interrupt-safe)
     steps = [(0.0, lam0, u0.copy(), v0, acc0, 0, 0.0, 0.0, 0.0, 0.0)]
     counters = {"steps": 0, "step_cuts": 0, "newton_iterations": 0, "factorizations": 0}

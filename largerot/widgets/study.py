@@ -19,7 +19,7 @@ from ..model import Structure
 from ..results import EquilibriumPath
 from ..solvers import by_load, trace
 from . import data
-from ._errors import ErrorBox, shown_in_widget, show_error
+from ._errors import ErrorBox, show_error
 from .explorer import Explorer
 
 __all__ = ["Study", "study", "parameter_widget", "round_step"]
