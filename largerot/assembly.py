@@ -412,6 +412,9 @@ class Assembly:
         if template is None:
             template = self._template = sp.csc_matrix(
                 (np.zeros(self.nnz), self.indices, self.indptr), shape=(self.n_free, self.n_free))
+            # checked once here and inherited by every copy (scipy caches the flags on
+            # the object; the factorisation asks for them at every iteration)
+            template.has_sorted_indices, template.has_canonical_format
         return with_data(template, data[:-1])
 
     def evaluate(self, u: np.ndarray, states: list, tangent: bool = True, lam: float | None = None,

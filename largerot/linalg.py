@@ -326,6 +326,7 @@ class _Symbolic:
         self.n = n
         self.template = sp.csc_matrix((np.zeros(len(self.upper)), self.indices, self.indptr),
                                       shape=(n, n))
+        self.template.has_sorted_indices, self.template.has_canonical_format   # cached (as Assembly._matrix)
         self.solver = None
         self.owner = None                  # the factorisation whose numbers it holds
 
