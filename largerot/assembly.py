@@ -235,6 +235,7 @@ class Assembly:
         state = dict(self.__dict__)
         state.pop("_chord_fit", None)         # a native factorisation, rebuilt on use
         state.pop("_template", None)          # a cache of the pattern's matrix
+        state.pop("_has_prescribed", None)
         return state
 
     # -- set-up -----------------------------------------------------------------
@@ -299,7 +300,10 @@ class Assembly:
     @property
     def has_prescribed(self) -> bool:
         """True when imposed displacements are scaled by λ (∂r/∂λ depends on the state)."""
-        return bool(self.model.imposed_ref.any())
+        flag = self.__dict__.get("_has_prescribed")      # asked at every evaluation
+        if flag is None:
+            flag = self._has_prescribed = bool(self.model.imposed_ref.any())
+        return flag
 
     def _build_pattern(self) -> None:
         owners = [*self.groups, *self.load_groups]
@@ -454,7 +458,7 @@ class Assembly:
             f = np.zeros(self.n_dof)
         if tangent and data is None:
             data = np.zeros(self.nnz + 1)
-        if tangent and lam is not None:
+        if tangent and lam is not None and self.load_groups:
             self._subtract_load_stiffness(data, u, lam, const_factor, Ku)
         K = self._matrix(data) if tangent else None
         return Evaluation(self.framed(f), K, float(np.sqrt(scale2)), results,

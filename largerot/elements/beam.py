@@ -22,7 +22,7 @@ import numpy as np
 
 from ._chord import as_complex, chord, chord_turn, length_misfit, stretch_of
 
-__all__ = ["BeamResponse", "Beams", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
+__all__ = ["BeamResponse", "Beams", "BLOCK", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
 
 N_DOF = 6
 NODE_DOFS = (0, 1, 2)
@@ -58,13 +58,34 @@ def local_rotations(dX: np.ndarray, u: np.ndarray):
     return t[:, 0], t[:, 1]
 
 
+#: Elements per block of :class:`Beams`: the temporaries of a block (about 0.7 KB per
+#: element) are reused from block to block instead of ~85 MB of fresh memory per
+#: evaluation at 100,000 elements, and stay in cache (the kernel over a 100,440-element
+#: lattice: 26 ms in blocks of 8,192 against 32–51 ms in one piece, warm)
+BLOCK = 8192
+
+
+class _Constants(NamedTuple):
+    """What :class:`Beams` prepares once, for one block of elements."""
+    dX: np.ndarray          #: (n, 2) undeformed chords
+    L0: np.ndarray          #: (n,)
+    dXc: np.ndarray         #: (n,) complex, the chords as x + iy
+    conj_dX: np.ndarray     #: (n,) complex
+    length2: np.ndarray     #: (n,) |dX|²
+    misfit: np.ndarray      #: (n,) |dX|² − L0² (:func:`~._chord.length_misfit`)
+    ka: np.ndarray          #: (n,) EA/L0
+    kB: np.ndarray          #: (n, 2, 2) ∂(M1, M2)/∂(θ1, θ2)
+    material: np.ndarray    #: (n, 4, 4) H's constant part (see :func:`corotate`)
+
+
 class Beams:
     """Corotational beams with their constant data prepared once (a group's kernel).
 
     :func:`response` for the same arguments, without recomputing per call what does
     not change along a path (undeformed chords, stiffness factors, the material part
     of the local tangent): on the small models people re-trace interactively the
-    kernel is call overhead, not arithmetic.
+    kernel is call overhead, not arithmetic. Large groups are evaluated in blocks of
+    ``BLOCK`` elements written into the full outputs.
 
     Parameters
     ----------
@@ -75,34 +96,51 @@ class Beams:
     """
 
     def __init__(self, dX, L0, EA, EI, bending=None) -> None:
-        self.dX = np.ascontiguousarray(dX, dtype=float)
-        self.L0 = np.asarray(L0, dtype=float)
-        self.n = n = len(self.L0)
-        dXc = as_complex(self.dX)                             # chords as x + iy
-        self.misfit = length_misfit(self.dX, self.L0)
-        self.dXc, self.conj_dX = dXc, np.conj(dXc)
-        self.length2 = (dXc * self.conj_dX).real
-        self.ka, kb = EA / self.L0, EI / self.L0
-        self.kB = kb[:, None, None] * (_BENDING[1:, 1:] if bending is None else bending)
-        self.material = np.zeros((n, 4, 4))                   # H's constant part
-        self.material[:, 0, 0] = self.ka
-        self.material[:, 1:3, 1:3] = self.kB
+        dX = np.ascontiguousarray(dX, dtype=float)
+        L0 = np.asarray(L0, dtype=float)
+        self.n = n = len(L0)
+        dXc = as_complex(dX)                                  # chords as x + iy
+        conj_dX = np.conj(dXc)
+        ka, kb = EA / L0, EI / L0
+        kB = kb[:, None, None] * (_BENDING[1:, 1:] if bending is None else bending)
+        material = np.zeros((n, 4, 4))
+        material[:, 0, 0] = ka
+        material[:, 1:3, 1:3] = kB
+        whole = _Constants(dX, L0, dXc, conj_dX, (dXc * conj_dX).real, length_misfit(dX, L0),
+                           ka, kB, material)
+        self.blocks = [(slice(None), whole)] if n <= BLOCK else [
+            (slice(a, a + BLOCK), _Constants(*(c[a:a + BLOCK] for c in whole)))
+            for a in range(0, n, BLOCK)]
 
     def response(self, u: np.ndarray, tangent: bool = True) -> BeamResponse:
         """Internal forces and tangent at end displacements ``u``, shape (n_elements, 6)."""
-        du = u[:, 3:5] - u[:, 0:2]                            # new, contiguous
-        duc = du.view(complex)[:, 0]
-        x = self.dXc + duc
-        l = np.abs(x)
-        stretch = stretch_of(self.misfit, self.dX, du, l, self.L0)
-        cs = x / l
-        t = _relative(u[:, 2::3], chord_turn(self.conj_dX, self.length2, duc))
-        q = np.empty((self.n, 3))
-        np.multiply(self.ka, stretch, out=q[:, 0])
-        q[:, 1:] = np.einsum("eij,ej->ei", self.kB, t)
-        H = self.material.copy() if tangent else None
-        f, K = _global(cs.view(float).reshape(self.n, 2), l, q, H)
+        if len(self.blocks) == 1:
+            return _block(self.blocks[0][1], u, tangent)
+        n = self.n
+        q, f, l = np.empty((n, 3)), np.empty((n, 6)), np.empty(n)
+        K = np.empty((n, 6, 6)) if tangent else None
+        for sl, c in self.blocks:
+            r = _block(c, u[sl], tangent, f[sl], None if K is None else K[sl])
+            q[sl], l[sl] = r.q, r.l
         return BeamResponse(q, f, K, l)
+
+
+def _block(c: _Constants, u: np.ndarray, tangent: bool, f_out=None, K_out=None) -> BeamResponse:
+    """:meth:`Beams.response` of one block; f and K written into ``f_out``, ``K_out``
+    when given."""
+    du = u[:, 3:5] - u[:, 0:2]                                # new, contiguous
+    duc = du.view(complex)[:, 0]
+    x = c.dXc + duc
+    l = np.abs(x)
+    stretch = stretch_of(c.misfit, c.dX, du, l, c.L0)
+    cs = x / l
+    t = _relative(u[:, 2::3], chord_turn(c.conj_dX, c.length2, duc))
+    q = np.empty((len(l), 3))
+    np.multiply(c.ka, stretch, out=q[:, 0])
+    q[:, 1:] = np.einsum("eij,ej->ei", c.kB, t)
+    H = c.material.copy() if tangent else None
+    f, K = _global(cs.view(float).reshape(len(l), 2), l, q, H, f_out, K_out)
+    return BeamResponse(q, f, K, l)
 
 
 def response(dX: np.ndarray, L0: np.ndarray, u: np.ndarray, EA: np.ndarray,
@@ -142,21 +180,23 @@ for _row, _sign in ((3, 1.0), (1, -1.0), (2, -1.0)):          # z = (s, −c, 0,
 _C_BASIS = _C_BASIS.reshape(5, 24)
 
 
-def _global(cs: np.ndarray, l: np.ndarray, q: np.ndarray, H: np.ndarray | None):
+def _global(cs: np.ndarray, l: np.ndarray, q: np.ndarray, H: np.ndarray | None,
+            f_out: np.ndarray | None = None, K_out: np.ndarray | None = None):
     """f and K of :func:`corotate` from cs = (c, s), shape (n, 2), and H's local part
-    (k in its upper-left block, zeros elsewhere; completed here), or None."""
+    (k in its upper-left block, zeros elsewhere; completed here), or None; written
+    into ``f_out`` (n, 6) and ``K_out`` (n, 6, 6) when given."""
     n = len(l)
     coef = np.empty((n, 5))
     coef[:, 0] = 1.0
     coef[:, 1:3] = cs
     np.divide(cs, l[:, None], out=coef[:, 3:5])
     C = (coef @ _C_BASIS).reshape(n, 4, 6)
-    f = np.einsum("ea,eai->ei", q, C[:, :3])
+    f = np.einsum("ea,eai->ei", q, C[:, :3], out=f_out)
     if H is None:
         return f, None
     H[:, 0, 3] = H[:, 3, 0] = (q[:, 1] + q[:, 2]) / l
     H[:, 3, 3] = q[:, 0] * l
-    return f, np.matmul(C.transpose(0, 2, 1), H @ C)
+    return f, np.matmul(C.transpose(0, 2, 1), H @ C, out=K_out)
 
 
 def corotate(c, s, l, q, k=None):

@@ -378,8 +378,11 @@ def newton(problem: Problem, u: np.ndarray, lam: float, constraint, u_start: np.
                 r, K, scale = ev
                 continue
         if CHORD_CORRECTION and hasattr(problem, "moved"):
-            du = problem.moved(u, du, lam, dlam) - u
-        trial = problem.residual(u + du, lam + dlam)
+            u_new = problem.moved(u, du, lam, dlam)
+            du = u_new - u
+        else:
+            u_new = u + du
+        trial = problem.residual(u_new, lam + dlam)
         eta = 1.0
         s0 = float(du @ r)
         if s0 < 0.0:
