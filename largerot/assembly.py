@@ -498,6 +498,11 @@ class Assembly:
                for g, st in zip(self.groups, states)]
         return states if all(n is o for n, o in zip(new, states)) else new
 
+    @property
+    def augments(self) -> bool:
+        """True when a group updates multipliers at converged points (contacts)."""
+        return any(type(g).augment is not Group.augment for g in self.groups)
+
     def augmented(self, ev: Evaluation, states: list):
         """New history if a converged point must be solved again (contact updates), else None."""
         new, again = list(states), False

@@ -399,7 +399,7 @@ class PathStepper:
         res = newton(self.problem, u_pred, lam_pred, constraint, self.u, self.tol, self.tol_u,
                      self.max_iterations)
         self.n_factorizations += res.iterations + 1
-        if res.converged:
+        if res.converged and self.assembly.augments:
             res = self._augment(res)
         return res
 
