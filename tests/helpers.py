@@ -10,6 +10,16 @@ def two_bar_truss(half_span: float = 2.0, rise: float = 0.5, EA: float = 1e4):
     return sc.structure, sc.apex
 
 
+def rigidly_turned(angle: float, chord=(2.0, 1.0)):
+    """One element turned rigidly by ``angle`` about its first end: (dX (1, 2),
+    L0 (1,), u (1, 6) with both end rotations ``angle``)."""
+    dX = np.array([chord], dtype=float)
+    L0 = np.hypot(*dX[0])[None]
+    c, s = np.cos(angle), np.sin(angle)
+    d2 = np.array([c * dX[0, 0] - s * dX[0, 1], s * dX[0, 0] + c * dX[0, 1]]) - dX[0]
+    return dX, L0, np.array([[0.0, 0.0, angle, d2[0], d2[1], angle]])
+
+
 def element_jacobian(force, u, h=1e-6):
     """Central differences of stacked element forces, shape (n_elements, n_dof, n_dof)."""
     K = np.zeros(u.shape + (u.shape[1],))

@@ -5,7 +5,7 @@ from hypothesis import given, settings, strategies as st
 
 from largerot.elements import bar, beam
 
-from helpers import element_jacobian
+from helpers import element_jacobian, rigidly_turned
 
 
 def _random_beams(seed, n=6, rotation_scale=3.0):
@@ -78,11 +78,7 @@ def test_beams_at_rest_have_exactly_zero_force_at_every_angle():
 @pytest.mark.parametrize("angle", [0.5, 3.0, 10.0])
 def test_free_element_rotated_rigidly_is_unstressed(angle):
     # The named angles; bar and beam alike.
-    dX = np.array([[2.0, 1.0]])
-    L0 = np.hypot(*dX[0])[None]
-    c, s = np.cos(angle), np.sin(angle)
-    d2 = np.array([c * dX[0, 0] - s * dX[0, 1], s * dX[0, 0] + c * dX[0, 1]]) - dX[0]
-    ub = np.array([[0.0, 0.0, angle, d2[0], d2[1], angle]])
+    dX, L0, ub = rigidly_turned(angle)
     rb = beam.response(dX, L0, ub, np.array([1e6]), np.array([1.0]))
     assert np.abs(rb.f).max() < 1e-8
     rr = bar.response(dX, L0, ub[:, [0, 1, 3, 4]], np.array([1e6]))

@@ -20,7 +20,7 @@ from largerot.closed_form import elastica_tip_load
 from largerot.elements import timoshenko
 from largerot.groups import BeamGroup, TimoshenkoBeamGroup
 
-from helpers import element_jacobian
+from helpers import element_jacobian, rigidly_turned
 
 
 def _random_beams(seed, n=6):
@@ -53,11 +53,7 @@ def test_tangent_is_derivative_of_force(seed):
 def test_rigid_motion_gives_no_force(angle):
     # Objectivity (common practice, no source): a rigid turn by any angle leaves
     # the element unstrained; forces at round-off of EA·1e-16.
-    dX = np.array([[2.0, 1.0]])
-    L0 = np.hypot(*dX[0])[None]
-    c, s = np.cos(angle), np.sin(angle)
-    d2 = np.array([c * dX[0, 0] - s * dX[0, 1], s * dX[0, 0] + c * dX[0, 1]]) - dX[0]
-    u = np.array([[0.0, 0.0, angle, d2[0], d2[1], angle]])
+    dX, L0, u = rigidly_turned(angle)
     res = timoshenko.response(dX, L0, u, np.array([1e6]), np.array([1.0]), np.array([3.0]))
     assert np.abs(res.f).max() < 1e-8
 
