@@ -256,6 +256,12 @@ def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Poin
     stepper's status set (``"max_steps"`` when the count ran out). An interrupt
     leaves the stepper at its last converged point, able to go on.
     """
+    for _ in _steps(stepper, max_steps):
+        yield stepper.last_point()
+
+
+def _steps(stepper: PathStepper, max_steps: int | None = None) -> Iterator[None]:
+    """:func:`iterate` without building the points (a run that nobody watches)."""
     if max_steps is not None:
         max_steps = checked_option("max_steps", max_steps, integer=True, lower=0)
     taken = 0
@@ -266,7 +272,7 @@ def iterate(stepper: PathStepper, max_steps: int | None = None) -> Iterator[Poin
         stepper.step()
         taken += 1
         if stepper.status != "failed":
-            yield stepper.last_point()
+            yield None
 
 
 def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
@@ -288,7 +294,9 @@ def run(stepper: PathStepper, max_steps: int = DEFAULT_MAX_STEPS, stop=None,
         if progress:
             from tqdm.auto import tqdm
             bar = tqdm(total=max_steps, desc="points", unit="pt")
-        for point in iterate(stepper, max_steps):
+        watched = bar is not None or callback is not None or stop is not None
+        for _ in _steps(stepper, max_steps):
+            point = stepper.last_point() if watched else None
             if bar is not None:
                 bar.update(1)
                 bar.set_postfix_str(f"λ = {point.load_factor:.4g}")
