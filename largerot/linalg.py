@@ -218,7 +218,7 @@ class Factorization:
 
     def _compute_pivots(self) -> None:
         pivots, order = self._pivots_in_order()
-        if not np.isfinite(pivots).all():
+        if not all_finite(pivots):
             raise SingularTangent("The factorisation produced non-finite pivots.")
         self._pivots = pivots
         self._pivot_dof = order
@@ -388,9 +388,9 @@ class LDLFactorization(Factorization):
         # stale numbers. A zero pivot in floating point comes from a zero row (a node
         # whose every member went slack), caught here for O(n); D itself is checked
         # when the pivots are read (inertia, mechanism check).
-        if sym.diagonal is None or not (K.data[sym.diagonal] != 0.0).all():
+        if sym.diagonal is None or np.count_nonzero(K.data[sym.diagonal]) < self.n:
             raise SingularTangent("The tangent has a zero on its diagonal.")
-        if not np.isfinite(K.data).all():
+        if not all_finite(K.data):
             raise SingularTangent("The tangent has non-finite entries.")
         self._Ku = sym.upper_triangle(K)
         sym.factor(self._Ku, self)
@@ -407,7 +407,7 @@ class LDLFactorization(Factorization):
     def _pivots_in_order(self):
         _, d, perm = self._solver().factors()
         d = np.asarray(d)
-        if not (d != 0.0).all():
+        if np.count_nonzero(d) < len(d):
             raise SingularTangent("The LDLᵀ factorisation met a zero pivot.")
         return d, np.asarray(perm, dtype=np.int64)
 
@@ -421,6 +421,13 @@ class LDLFactorization(Factorization):
     def __getstate__(self):
         raise TypeError("A factorisation holds a native solver and does not pickle; "
                         "refactorise K after loading.")
+
+
+def all_finite(x: np.ndarray) -> bool:
+    """True when every entry of ``x`` is finite (the ufunc's reduce directly: ``.all()``
+    goes through two Python-level wrappers, and this runs several times a Newton
+    iteration)."""
+    return bool(np.logical_and.reduce(np.isfinite(x), axis=None))
 
 
 def with_data(template: sp.csc_matrix, data: np.ndarray) -> sp.csc_matrix:

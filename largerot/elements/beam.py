@@ -45,7 +45,7 @@ def _relative(rz: np.ndarray, alpha: np.ndarray) -> np.ndarray:
     wrap, no rounding beyond the difference) for the usual |rz − α| < π."""
     t = rz - alpha[:, None]
     turns = np.rint(t * (1.0 / _TWO_PI))
-    return t - _TWO_PI * turns if turns.any() else t
+    return t - _TWO_PI * turns if np.count_nonzero(turns) else t
 
 
 def local_rotations(dX: np.ndarray, u: np.ndarray):

@@ -62,7 +62,7 @@ class QuadraticConstraint:
             return LinearisedConstraint(m, self.u0, self.lam0, self.dl).delta_lam(du_r, du_F, u, lam)
         q = -0.5 * (b + math.copysign(math.sqrt(disc), b))   # roots without cancellation
         roots = [q / a, c / q] if q != 0.0 else [0.0, 0.0]
-        if not (Du.any() or Dlam):
+        if not (Dlam or Du.any()):
             return roots[0]
         # the angle of each new increment v + r·δu_F, Dlam + r with the current one
         vD, FD = float(wv @ Du), float(wF @ Du)

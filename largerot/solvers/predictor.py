@@ -39,6 +39,8 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
+from ..linalg import all_finite
+
 __all__ = ["chord_consistent", "chord_fit", "ChordFit"]
 
 log = logging.getLogger(__name__)
@@ -202,7 +204,7 @@ def chord_consistent(assembly, u0: np.ndarray, u1: np.ndarray, lam0: float = 0.0
     turn = np.expm1(1j * w.imag)
     misfit = (z0 * (w.real * (turn + 1.0) + turn) - dz).view(float)   # (2n,): x, y per chord
     delta = fit.solve(misfit)
-    if not np.isfinite(delta).all():
+    if not all_finite(delta):
         return u1
     u = u1.copy()
     u[fit.used] += delta
