@@ -16,7 +16,7 @@ import scipy.sparse as sp
 
 from .errors import ModelError
 from .groups import Group, build_groups, build_loads
-from .linalg import with_data
+from .linalg import pattern_matrix, with_data
 from .mesh_check import check_resolution
 from .model import DOFS
 from .snapshot import Model
@@ -414,11 +414,7 @@ class Assembly:
         # validation (5× the cost of the copy on small models) is paid once
         template = self.__dict__.get("_template")
         if template is None:
-            template = self._template = sp.csc_matrix(
-                (np.zeros(self.nnz), self.indices, self.indptr), shape=(self.n_free, self.n_free))
-            # checked once here and inherited by every copy (scipy caches the flags on
-            # the object; the factorisation asks for them at every iteration)
-            template.has_sorted_indices, template.has_canonical_format
+            template = self._template = pattern_matrix(self.indices, self.indptr, self.n_free)
         return with_data(template, data[:-1])
 
     def evaluate(self, u: np.ndarray, states: list, tangent: bool = True, lam: float | None = None,

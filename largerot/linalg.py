@@ -43,7 +43,6 @@ Ownership (QDLDL)
 """
 from __future__ import annotations
 
-
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
@@ -324,9 +323,7 @@ class _Symbolic:
         self.indptr = np.concatenate([[0], np.cumsum(np.bincount(cols[self.upper], minlength=n))]
                                      ).astype(np.int32)
         self.n = n
-        self.template = sp.csc_matrix((np.zeros(len(self.upper)), self.indices, self.indptr),
-                                      shape=(n, n))
-        self.template.has_sorted_indices, self.template.has_canonical_format   # cached (as Assembly._matrix)
+        self.template = pattern_matrix(self.indices, self.indptr, n)
         self.solver = None
         self.owner = None                  # the factorisation whose numbers it holds
 
@@ -428,6 +425,16 @@ def all_finite(x: np.ndarray) -> bool:
     goes through two Python-level wrappers, and this runs several times a Newton
     iteration)."""
     return bool(np.logical_and.reduce(np.isfinite(x), axis=None))
+
+
+def pattern_matrix(indices: np.ndarray, indptr: np.ndarray, n: int) -> sp.csc_matrix:
+    """A validated (n, n) CSC matrix of zeros on a canonical pattern: the template of
+    :func:`with_data`. Its sorted/canonical flags are checked here once and cached on
+    it (scipy keeps them on the object), so every copy inherits them instead of
+    re-checking at every factorisation."""
+    template = sp.csc_matrix((np.zeros(len(indices)), indices, indptr), shape=(n, n))
+    template.has_sorted_indices, template.has_canonical_format
+    return template
 
 
 def with_data(template: sp.csc_matrix, data: np.ndarray) -> sp.csc_matrix:

@@ -52,8 +52,8 @@ def local_rotations(dX: np.ndarray, u: np.ndarray):
     """End rotations relative to the current chord, each shape (n_elements,), from the
     undeformed chords dX (n_elements, 2) and end displacements u (n_elements, 6)."""
     dXc = as_complex(dX)
-    alpha = chord_turn(np.conj(dXc), (dXc * np.conj(dXc)).real,
-                       as_complex(u[:, 3:5] - u[:, 0:2]))
+    conj_dX = np.conj(dXc)
+    alpha = chord_turn(conj_dX, (dXc * conj_dX).real, as_complex(u[:, 3:5] - u[:, 0:2]))
     t = _relative(u[:, 2::3], alpha)                          # both ends at once
     return t[:, 0], t[:, 1]
 
