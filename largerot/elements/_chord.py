@@ -32,7 +32,9 @@ def chord(dX: np.ndarray, du: np.ndarray, L0: np.ndarray):
     """
     x = dX + du
     l = np.hypot(x[:, 0], x[:, 1])
-    stretch = stretch_of(length_misfit(dX, L0), dX, du, l, L0)
+    duc = as_complex(du)            # the products of the beam kernel's: elements agree to the bit
+    stretch = stretch_of(length_misfit(dX, L0), (np.conj(as_complex(dX)) * duc).real,
+                         (duc * np.conj(duc)).real, l, L0)
     return l, stretch, x[:, 0] / l, x[:, 1] / l
 
 
@@ -42,11 +44,11 @@ def length_misfit(dX: np.ndarray, L0: np.ndarray) -> np.ndarray:
     return (chord0 - L0) * (chord0 + L0)
 
 
-def stretch_of(misfit: np.ndarray, dX: np.ndarray, du: np.ndarray, l: np.ndarray,
+def stretch_of(misfit: np.ndarray, dot: np.ndarray, du2: np.ndarray, l: np.ndarray,
                L0: np.ndarray) -> np.ndarray:
-    """``l - L0`` without cancellation (see :func:`chord`), shape (n_elements,)."""
-    return (misfit + 2.0 * np.einsum("ei,ei->e", dX, du)
-            + np.einsum("ei,ei->e", du, du)) / (l + L0)
+    """``l - L0`` without cancellation (see :func:`chord`) from ``misfit`` = |dX|² − L0²,
+    ``dot`` = dX·du and ``du2`` = |du|², shape (n_elements,) each."""
+    return (misfit + 2.0 * dot + du2) / (l + L0)
 
 
 def as_complex(v: np.ndarray) -> np.ndarray:
@@ -55,22 +57,20 @@ def as_complex(v: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(v, dtype=float).view(complex)[:, 0]
 
 
-def chord_turn(conj_dX: np.ndarray, length2: np.ndarray, du: np.ndarray) -> np.ndarray:
+def chord_turn(p: np.ndarray, length2: np.ndarray) -> np.ndarray:
     """Angle α by which each chord dX + du is turned from dX, shape (n_elements,).
 
-    α = atan2(dX × du, |dX|² + dX·du), both read off conj(dX)·du: exactly zero for
+    α = atan2(dX × du, |dX|² + dX·du), both read off p = conj(dX)·du: exactly zero for
     du = 0 and accurate to round-off *relative to α* for small turns at any chord
     angle (a difference of the two chord angles has an absolute error of eps·π,
     which at small loads on stiff members is the whole bending moment's round-off).
 
     Parameters
     ----------
-    conj_dX : ndarray of complex, shape (n_elements,)
-        conj(dX_x + i·dX_y).
+    p : ndarray of complex, shape (n_elements,)
+        conj(dX)·du = dX·du + i·dX × du, with dX and du (the change of the chord,
+        end 2 minus end 1) as x + iy.
     length2 : ndarray, shape (n_elements,)
         |dX|².
-    du : ndarray of complex, shape (n_elements,)
-        Change of the chord, end 2 minus end 1.
     """
-    p = conj_dX * du
     return np.arctan2(p.imag, length2 + p.real)

@@ -53,7 +53,7 @@ def local_rotations(dX: np.ndarray, u: np.ndarray):
     undeformed chords dX (n_elements, 2) and end displacements u (n_elements, 6)."""
     dXc = as_complex(dX)
     conj_dX = np.conj(dXc)
-    alpha = chord_turn(conj_dX, (dXc * conj_dX).real, as_complex(u[:, 3:5] - u[:, 0:2]))
+    alpha = chord_turn(conj_dX * as_complex(u[:, 3:5] - u[:, 0:2]), (dXc * conj_dX).real)
     t = _relative(u[:, 2::3], alpha)                          # both ends at once
     return t[:, 0], t[:, 1]
 
@@ -132,12 +132,13 @@ def _block(c: _Constants, u: np.ndarray, tangent: bool, f_out=None, K_out=None) 
     duc = du.view(complex)[:, 0]
     x = c.dXc + duc
     l = np.abs(x)
-    stretch = stretch_of(c.misfit, c.dX, du, l, c.L0)
+    p = c.conj_dX * duc                                       # dX·du + i·dX × du
+    stretch = stretch_of(c.misfit, p.real, (duc * np.conj(duc)).real, l, c.L0)
     cs = x / l
-    t = _relative(u[:, 2::3], chord_turn(c.conj_dX, c.length2, duc))
+    t = _relative(u[:, 2::3], chord_turn(p, c.length2))
     q = np.empty((len(l), 3))
     np.multiply(c.ka, stretch, out=q[:, 0])
-    q[:, 1:] = np.einsum("eij,ej->ei", c.kB, t)
+    np.matmul(c.kB, t[:, :, None], out=q[:, 1:, None])
     H = c.material.copy() if tangent else None
     f, K = _global(cs.view(float).reshape(len(l), 2), l, q, H, f_out, K_out)
     return BeamResponse(q, f, K, l)
@@ -191,7 +192,8 @@ def _global(cs: np.ndarray, l: np.ndarray, q: np.ndarray, H: np.ndarray | None,
     coef[:, 1:3] = cs
     np.divide(cs, l[:, None], out=coef[:, 3:5])
     C = (coef @ _C_BASIS).reshape(n, 4, 6)
-    f = np.einsum("ea,eai->ei", q, C[:, :3], out=f_out)
+    f = np.empty((n, 6)) if f_out is None else f_out
+    np.matmul(q[:, None, :], C[:, :3], out=f[:, None, :])
     if H is None:
         return f, None
     H[:, 0, 3] = H[:, 3, 0] = (q[:, 1] + q[:, 2]) / l
