@@ -34,3 +34,14 @@ def test_quick_benchmark_writes_results(tmp_path):
     assert m["interpreter_MB"] <= m["peak_model_MB"] <= m["peak_trace_MB"]
     assert {"build_s", "first_build_s", "iteration_s", "ratio"} <= set(res["build"])
     assert "Newton iteration" in proc.stdout
+
+
+def test_point_cost_accounts_for_every_part_of_a_point():
+    """``benchmarks/point_cost.py`` finds every part it times in the trace: a renamed
+    solver method would otherwise drop out of the accounting silently."""
+    proc = subprocess.run([sys.executable, str(ROOT / "benchmarks" / "point_cost.py")],
+                          capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    for part in ("evaluation", "refactorisation", "solve", "chord fit", "arc-length constraint",
+                 "Newton", "predictor", "inertia", "point record", "doubling-back guard", "step"):
+        assert part in proc.stdout, part
