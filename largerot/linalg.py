@@ -156,20 +156,38 @@ def _remember(K, perm) -> None:
     del _orderings[N_ORDERINGS:]
 
 
+#: Entries per block of :func:`scaled_norm`: its temporaries are two buffers of this
+#: size, reused block to block, instead of two arrays the size of K (2 × 21 MB at
+#: 100,000 beams, whose first touches cost 0.06-0.14 s on a VM against 0.016 s warm).
+NORM_BLOCK = 1 << 16
+
+
 def scaled_norm(K: sp.spmatrix) -> float:
     """‖D^-½·|K|·D^-½‖₁ with D = |diag K| (zero diagonals count as one)."""
     if K.format != "csc":
         K = sp.csc_matrix(K)               # a CSC tangent is read as it is (no copy)
+    n = K.shape[1]
     d = np.abs(K.diagonal())
     w = 1.0 / np.sqrt(np.where(d > 0, d, 1.0))
-    # column sums of |K|·w[row], then × w[col]: no per-entry column array
-    a = np.abs(K.data)
-    a *= w[K.indices]
-    starts = K.indptr[:-1]
-    filled = starts < K.indptr[1:]
-    sums = np.zeros(K.shape[1])
-    if filled.any():
-        sums[filled] = np.add.reduceat(a, starts[filled])
+    indptr, indices, data = K.indptr, K.indices, K.data
+    # column sums of |K|·w[row], then × w[col], over blocks of whole columns
+    sums = np.zeros(n)
+    size = min(NORM_BLOCK, len(data))
+    a_buf, w_buf = np.empty(size), np.empty(size)
+    col = 0
+    while col < n:                         # each pass takes at least one column
+        end = max(int(np.searchsorted(indptr, indptr[col] + NORM_BLOCK, side="right")) - 1, col + 1)
+        lo, hi = int(indptr[col]), int(indptr[end])
+        m = hi - lo
+        if m > len(a_buf):                 # a single column longer than a block
+            a_buf, w_buf = np.empty(m), np.empty(m)
+        a = np.abs(data[lo:hi], out=a_buf[:m])
+        a *= np.take(w, indices[lo:hi], out=w_buf[:m])
+        starts = indptr[col:end] - lo
+        filled = starts < indptr[col + 1:end + 1] - lo
+        if m and filled.any():
+            sums[col:end][filled] = np.add.reduceat(a, starts[filled])
+        col = end
     return float((sums * w).max(initial=0.0))
 
 

@@ -165,3 +165,26 @@ def test_the_eigenpair_of_a_large_tangent_matches_the_dense_one(monkeypatch, j):
     mu, phi = stability.eigenpair(K, j)
     assert mu == pytest.approx(w[j], rel=1e-8, abs=1e-10 * abs(w).max())
     assert abs(phi @ v[:, j]) == pytest.approx(1.0, abs=1e-8)
+
+
+@pytest.mark.parametrize("block", [1, 3, 64, 1 << 16])
+def test_scaled_norm_is_the_one_norm_of_the_diagonally_scaled_matrix(monkeypatch, block):
+    """``scaled_norm`` against its definition computed densely, ‖D^-½·|K|·D^-½‖₁ with
+    D = |diag K| and a zero diagonal counted as one; blocks of 1 entry (every column
+    longer than a block), 3 and 64 entries and one block for the whole matrix, on a
+    random symmetric pattern with empty columns and zero diagonals."""
+    monkeypatch.setattr(linalg, "NORM_BLOCK", block)
+    rng = np.random.default_rng(7)
+    A = sp.random(60, 60, density=0.08, random_state=rng, format="csc")
+    A = (A + A.T).tolil()
+    A[5, :] = 0.0
+    A[:, 5] = 0.0                      # an empty column
+    A[9, 9] = 0.0                      # a zero diagonal among entries
+    A[11, 11] = -3.0                   # a negative diagonal
+    K = sp.csc_matrix(A)
+    K.eliminate_zeros()
+    dense = K.toarray()
+    d = np.abs(np.diag(dense))
+    w = 1.0 / np.sqrt(np.where(d > 0, d, 1.0))
+    expected = np.abs(w[:, None] * dense * w[None, :]).sum(axis=0).max()
+    assert linalg.scaled_norm(K) == pytest.approx(expected, rel=1e-14)
