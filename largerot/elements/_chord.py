@@ -32,9 +32,8 @@ def chord(dX: np.ndarray, du: np.ndarray, L0: np.ndarray):
     """
     x = dX + du
     l = np.hypot(x[:, 0], x[:, 1])
-    duc = as_complex(du)            # the products of the beam kernel's: elements agree to the bit
-    stretch = stretch_of(length_misfit(dX, L0), (np.conj(as_complex(dX)) * duc).real,
-                         (duc * np.conj(duc)).real, l, L0)
+    p, du2 = chord_products(np.conj(as_complex(dX)), as_complex(du))
+    stretch = stretch_of(length_misfit(dX, L0), p.real, du2, l, L0)
     return l, stretch, x[:, 0] / l, x[:, 1] / l
 
 
@@ -49,6 +48,13 @@ def stretch_of(misfit: np.ndarray, dot: np.ndarray, du2: np.ndarray, l: np.ndarr
     """``l - L0`` without cancellation (see :func:`chord`) from ``misfit`` = |dX|² − L0²,
     ``dot`` = dX·du and ``du2`` = |du|², shape (n_elements,) each."""
     return (misfit + 2.0 * dot + du2) / (l + L0)
+
+
+def chord_products(conj_dX: np.ndarray, du: np.ndarray):
+    """p = conj(dX)·du (dX·du + i·dX × du) and |du|², shape (n_elements,) each, from
+    chords and their changes as x + iy: what :func:`stretch_of` and :func:`chord_turn`
+    read, formed the same way for every element kind so that they agree to the bit."""
+    return conj_dX * du, (du * np.conj(du)).real
 
 
 def as_complex(v: np.ndarray) -> np.ndarray:

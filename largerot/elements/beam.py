@@ -20,7 +20,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ._chord import as_complex, chord, chord_turn, length_misfit, stretch_of
+from ._chord import as_complex, chord, chord_products, chord_turn, length_misfit, stretch_of
 
 __all__ = ["BeamResponse", "Beams", "BLOCK", "response", "corotate", "local_rotations", "curve", "N_DOF", "NODE_DOFS"]
 
@@ -132,8 +132,8 @@ def _block(c: _Constants, u: np.ndarray, tangent: bool, f_out=None, K_out=None) 
     duc = du.view(complex)[:, 0]
     x = c.dXc + duc
     l = np.abs(x)
-    p = c.conj_dX * duc                                       # dX·du + i·dX × du
-    stretch = stretch_of(c.misfit, p.real, (duc * np.conj(duc)).real, l, c.L0)
+    p, du2 = chord_products(c.conj_dX, duc)
+    stretch = stretch_of(c.misfit, p.real, du2, l, c.L0)
     cs = x / l
     t = _relative(u[:, 2::3], chord_turn(p, c.length2))
     q = np.empty((len(l), 3))
