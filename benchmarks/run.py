@@ -362,7 +362,7 @@ def latency(frame_points: int, repeat: int) -> dict:
     # with its state (within one run the trace by 1.4x and the floor by 2x on the 2-core
     # VM), and a ratio of two minima of far-apart moments would pair different states.
     # Both sides are minima of repeats, so that a pause of the machine inside one trace
-    # (a trace is some 500 floors long) is not counted against the code; the median
+    # (a trace is some 400 floors long) is not counted against the code; the median
     # of single traces is kept beside it ("overhead_ratio_single")
     s, _ = models.pole(40)
     P = Problem(Assembly.of(s))
